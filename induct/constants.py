@@ -1,0 +1,10 @@
+"""Physical constants and unit conversions used throughout induct (SI inside)."""
+
+import math
+
+#: Vacuum permeability (H/m). The conventional value 4 pi 1e-7 is used, as in the
+#: induction literature; the CODATA 2018 value differs by 5.5e-10 relative.
+MU0 = 4.0e-7 * math.pi
+
+SECONDS_PER_HOUR = 3600.0
+METRES_PER_KM = 1000.0
