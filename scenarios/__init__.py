@@ -1,0 +1,1 @@
+"""Bundled fictional scenarios (TOML), installed as package data; see README."""
