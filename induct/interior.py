@@ -265,15 +265,24 @@ class InteriorModel:
         return h
 
     def radii_m(self) -> np.ndarray:
-        """Outer radius of each layer (m), from the centre outward (kernel order); shape (L,)."""
-        h = self.thicknesses_km()[::-1]
-        top = np.cumsum(h)
-        top[-1] = self.radius_km  # exact reference radius, free of round-off
-        return top * METRES_PER_KM
+        """Outer radius of each kernel layer (m), from the centre outward; shape (L',).
+
+        A chemistry-defined ocean (a layer with a depth profile) contributes
+        one kernel layer per sub-layer, so L' >= L.
+        """
+        return self.parameter_arrays({})[0]
 
     def conductivities(self) -> np.ndarray:
-        """Conductivity of each layer (S/m), from the centre outward (kernel order); shape (L,)."""
-        return np.array([layer.conductivity_S_per_m for layer in self.layers[::-1]], dtype=float)
+        """Conductivity of each kernel layer (S/m), from the centre outward; shape (L',)."""
+        return self.parameter_arrays({})[1]
+
+    def _profiles(self) -> list:
+        """Per layer (surface down): sub-layer conductivities top first, or None for a uniform layer."""
+        out = []
+        for layer in self.layers:
+            prof = layer.extra.get("profile") if layer.extra else None
+            out.append(None if prof is None else np.asarray(prof.conductivity_S_per_m, dtype=float))
+        return out
 
     def outer_conductor_radius_km(self) -> float:
         """Outer radius (km) of the outermost layer with conductivity > 0 (0 if none)."""
@@ -363,27 +372,39 @@ class InteriorModel:
         batch = np.broadcast_shapes(*(v.shape for v in parsed.values())) if parsed else ()
         nlayer = len(self.layers)
         thick = np.broadcast_to(self.thicknesses_km(), batch + (nlayer,)).copy()
-        sigma = np.broadcast_to(self.conductivities()[::-1], batch + (nlayer,)).copy()
         fill = self.layers[-1].thickness_km is None
+        profiles = self._profiles()
+        sigma_cols = []  # per layer: array (..., S_i) of sub-layer conductivities, top first
+        for i, layer in enumerate(self.layers):
+            given = parsed.get((layer.name, "conductivity_S_per_m"))
+            if given is not None:
+                sigma_cols.append(np.broadcast_to(given, batch)[..., None])
+            elif profiles[i] is not None:
+                sigma_cols.append(np.broadcast_to(profiles[i], batch + profiles[i].shape))
+            else:
+                sigma_cols.append(np.full(batch + (1,), float(layer.conductivity_S_per_m)))
         for (layer_name, field_name), val in parsed.items():
-            if layer_name == "ionosphere":
+            if layer_name == "ionosphere" or field_name != "thickness_km":
                 continue
             i = names.index(layer_name)
-            if field_name == "conductivity_S_per_m":
-                sigma[..., i] = val
-            else:
-                if not fill:
-                    raise ValueError(f"{layer_name}.thickness_km cannot vary: the model has no fill layer to absorb it")
-                if fill and i == nlayer - 1:
-                    raise ValueError(f"{layer_name}.thickness_km cannot vary: it is the fill layer (it has no thickness)")
-                thick[..., i] = val
+            if not fill:
+                raise ValueError(f"{layer_name}.thickness_km cannot vary: the model has no fill layer to absorb it")
+            if i == nlayer - 1:
+                raise ValueError(f"{layer_name}.thickness_km cannot vary: it is the fill layer (it has no thickness)")
+            thick[..., i] = val
         if fill:
             thick[..., -1] = self.radius_km - thick[..., :-1].sum(axis=-1)
         valid = np.all(thick > 0, axis=-1)
+        # Sub-layer thicknesses (surface down): each layer split equally among its sub-layers.
+        safe = np.where(valid[..., None], thick, 1.0)
+        sub_h = np.concatenate(
+            [np.repeat(safe[..., i : i + 1] / col.shape[-1], col.shape[-1], axis=-1) for i, col in enumerate(sigma_cols)],
+            axis=-1,
+        )
+        sigma = np.concatenate(sigma_cols, axis=-1)
         # Centre-outward radii; invalid rows are given harmless placeholder radii.
-        h = np.where(valid[..., None], thick, 1.0)[..., ::-1]
-        radii = np.cumsum(h, axis=-1)
-        radii *= (self.radius_km / radii[..., -1:])
+        radii = np.cumsum(sub_h[..., ::-1], axis=-1)
+        radii *= self.radius_km / radii[..., -1:]
         radii *= METRES_PER_KM
         ion = parsed.get(("ionosphere", "conductance_S"))
         if ion is None and self.ionosphere is not None:

@@ -143,13 +143,13 @@ def parse_scenario(doc: dict, path: Path | None = None) -> Scenario:
         if missing:
             raise ValueError(f"{where}: [ionosphere] needs {', '.join(sorted(missing))}")
         ion = Ionosphere(conductance_S=ion_raw["conductance_S"], altitude_km=ion_raw["altitude_km"])
-    layers = _resolve_chemistry(layers, body, where)
-    model = InteriorModel(body["radius_km"], layers, ionosphere=ion, name=body.get("name", "body"))
     periods = _periods(doc.get("drive", {}), where)
+    layers = _resolve_chemistry(layers, body, where, periods)
+    model = InteriorModel(body["radius_km"], layers, ionosphere=ion, name=body.get("name", "body"))
     return Scenario(name=model.name, model=model, periods_h=periods, raw=doc, path=path)
 
 
-def _resolve_chemistry(layers, body, where):
+def _resolve_chemistry(layers, body, where, periods_h):
     """Layers that give salinity instead of conductivity are resolved by the ocean module."""
     if not any(layer.conductivity_S_per_m is None and "salinity_g_per_kg" in layer.extra for layer in layers):
         return layers
@@ -157,7 +157,7 @@ def _resolve_chemistry(layers, body, where):
         from .ocean import resolve_chemistry_layers
     except ImportError as exc:  # pragma: no cover - the module ships with the package
         raise ValueError(f"{where}: oceans given by salinity need induct.ocean ({exc})") from exc
-    return resolve_chemistry_layers(layers, body, where)
+    return resolve_chemistry_layers(layers, body, where, periods_h)
 
 
 def _periods(drive: dict, where: str) -> np.ndarray:

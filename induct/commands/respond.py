@@ -60,6 +60,7 @@ def run(args) -> int:
             "phase_lag_deg": result.phase_lag_deg.tolist(),
             "real": result.response.real.tolist(),
             "imag": result.response.imag.tolist(),
+            "oceans": ocean_reports(scenario.model),
             "notes": LIMITS_NOTE,
         }
         print(json.dumps(payload, indent=2))
@@ -84,6 +85,28 @@ def run(args) -> int:
     return 0
 
 
+def ocean_reports(model) -> list[dict]:
+    """For each chemistry-defined ocean: its profile summary and extrapolation flags (JSON-ready)."""
+    out = []
+    for layer in model.layers:
+        prof = layer.extra.get("profile") if layer.extra else None
+        if prof is None:
+            continue
+        out.append(
+            {
+                "layer": layer.name,
+                "solute": prof.solute,
+                "salinity_g_per_kg": prof.salinity_g_per_kg,
+                "sublayers": prof.sublayers,
+                "conductivity_range_S_per_m": list(prof.conductivity_range),
+                "temperature_range_C": [float(prof.temperature_C.min()), float(prof.temperature_C.max())],
+                "pressure_range_MPa": [float(prof.pressure_MPa.min()), float(prof.pressure_MPa.max())],
+                "extrapolated": list(prof.extrapolated),
+            }
+        )
+    return out
+
+
 def describe_layers(model) -> str:
     """Layer table (surface down): name, depth range, thickness, conductivity, conductance."""
     h = model.thicknesses_km()
@@ -97,6 +120,19 @@ def describe_layers(model) -> str:
         Column("conductance", "S", np.array(sigma) * h * 1e3, ".3g"),
     ]
     text = format_table(cols)
+    for layer in model.layers:
+        prof = layer.extra.get("profile") if layer.extra else None
+        if prof is None:
+            continue
+        lo, hi = prof.conductivity_range
+        text += (
+            f"\n{layer.name}: {prof.solute}, salinity {prof.salinity_g_per_kg:g} g/kg, {prof.sublayers} sub-layers; "
+            f"T {prof.temperature_C.min():.2f} to {prof.temperature_C.max():.2f} degC, "
+            f"p {prof.pressure_MPa.min():.1f} to {prof.pressure_MPa.max():.1f} MPa, "
+            f"conductivity {lo:.4g} to {hi:.4g} S/m (table shows the mean)"
+        )
+        for message in prof.extrapolated:
+            text += f"\n  ** EXTRAPOLATED: {message}"
     if model.ionosphere is not None:
         ion = model.ionosphere
         text += f"\nionosphere: thin sheet of {ion.conductance_S:g} S at {ion.altitude_km:g} km altitude"
