@@ -25,6 +25,7 @@ COMMANDS = (
     "respond",
     "bench",
     "demo",
+    "brine",
 )
 
 

@@ -226,3 +226,33 @@ def walden_factor(T_K, p_abs_Pa):
     """
     rho = density(T_K, p_abs_Pa)
     return rho / viscosity_from_density(T_K, rho)
+
+
+#: Exponent s of the fractional Walden rule Lambda * eta^s = const used for
+#: temperature scaling; fitted to PSS-78 (minimax error of the t = 2 -> -2 degC
+#: extrapolation over SP 2-42, 0-100 MPa) by tools/brine_fit.py. Pressure scaling
+#: uses s = 1 (plain Walden), which reproduces PSS-78's pressure factor to 1.5 %.
+WALDEN_TEMPERATURE_EXPONENT = 0.87
+
+
+def walden_ratio(T_K, p_abs_Pa, T_ref_K, p_ref_abs_Pa):
+    """Walden estimate of kappa(T, p) / kappa(T_ref, p_ref) at fixed composition.
+
+    ``[W(T, p_ref) / W(T_ref, p_ref)]**s * W(T, p) / W(T, p_ref)`` with
+    W = rho_w / eta_w (:func:`walden_factor`) and s = WALDEN_TEMPERATURE_EXPONENT.
+
+    Parameters
+    ----------
+    T_K, p_abs_Pa : array_like
+        Target temperature (K) and absolute pressure (Pa).
+    T_ref_K, p_ref_abs_Pa : array_like
+        Reference temperature (K) and absolute pressure (Pa).
+
+    Returns
+    -------
+    ndarray
+        Conductivity ratio (dimensionless), broadcast shape.
+    """
+    w_t = walden_factor(T_K, p_ref_abs_Pa) / walden_factor(T_ref_K, p_ref_abs_Pa)
+    w_p = walden_factor(T_K, p_abs_Pa) / walden_factor(T_K, p_ref_abs_Pa)
+    return w_t ** WALDEN_TEMPERATURE_EXPONENT * w_p

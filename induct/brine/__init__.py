@@ -1,0 +1,34 @@
+"""Ocean chemistry -> electrical conductivity and freezing point.
+
+Public API::
+
+    conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa=0.0,
+                 *, return_flags=False, warn=True)          -> S/m [, flags]
+    freezing_point(solute, salinity_g_per_kg, pressure_MPa=0.0,
+                   *, return_flags=False, warn=True)        -> degC [, flags]
+    ocean_conductivity_profile(solute, salinity_g_per_kg, temperature_C,
+                               pressure_MPa)                -> (S/m, flags)
+
+Solutes: "seawater" (Practical Salinity, PSS-78), "NaCl", "MgSO4", "KCl"
+(g of salt per kg of solution). Temperatures ITS-90, sea (gauge) pressure in
+MPa. Flags are :class:`ExtrapolationFlag` bits (0 = inside the reference
+model); :func:`describe_flags` turns them into names. Results that use an
+extrapolation also raise one aggregated :class:`ExtrapolationWarning` per call.
+Modules: seawater (PSS-78), extrapolation (beyond PSS-78), solutions
+(NaCl/KCl/MgSO4), freezing, water (IAPWS-95 density, IAPWS 2008 viscosity),
+limits (saturation), flags, api. Validity ranges: see each docstring and
+docs/brine.md.
+"""
+
+from .api import SOLUTES, conductivity, freezing_point, ocean_conductivity_profile
+from .flags import ExtrapolationFlag, ExtrapolationWarning, describe_flags
+
+__all__ = [
+    "SOLUTES",
+    "ExtrapolationFlag",
+    "ExtrapolationWarning",
+    "conductivity",
+    "describe_flags",
+    "freezing_point",
+    "ocean_conductivity_profile",
+]
