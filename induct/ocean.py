@@ -10,7 +10,9 @@ A scenario layer may give ``solute`` and ``salinity_g_per_kg`` instead of
    densities (:func:`hydrostatic_pressure_MPa`).
 2. **Temperature.** By default the ocean is isothermal at the freezing point of
    its brine at the ice-ocean interface pressure; ``temperature_C`` fixes it
-   instead (it must not be below the local freezing point).
+   instead (it must not be below the local freezing point), and
+   ``temperature_profile = "adiabatic"`` starts at that temperature and follows
+   seawater's adiabat (:func:`adiabatic_temperature_C`).
 3. **Sub-layers.** The ocean is split into equal sub-layers whose conductivity is
    :func:`induct.brine.conductivity` at each sub-layer's mid-depth pressure and
    temperature. The number of sub-layers doubles until the response at the
@@ -31,6 +33,8 @@ import numpy as np
 from .constants import METRES_PER_KM, SECONDS_PER_HOUR
 
 __all__ = [
+    "adiabatic_temperature_C",
+    "adiabatic_lapse_rate_K_per_MPa",
     "G",
     "DEFAULT_DENSITY",
     "OceanProfile",
@@ -186,6 +190,63 @@ def hydrostatic_pressure_MPa(r_m, radii_m, density_kg_per_m3) -> np.ndarray:
     return (p_top_of[j] + within(j, r, radii[j])) / 1e6
 
 
+def adiabatic_lapse_rate_K_per_MPa(salinity, temperature_C, pressure_MPa):
+    """Adiabatic temperature gradient of seawater, dT/dp (K/MPa).
+
+    The UNESCO polynomial ATG of Bryden (1973), Deep-Sea Res. 20, as given in
+    Fofonoff & Millard (1983), UNESCO Tech. Pap. Mar. Sci. 44 (check value
+    ATG(40, 40 degC, 10000 dbar) = 3.255976e-4 K/dbar). Stated range: salinity
+    0-40, -2 to 40 degC, 0-100 MPa; beyond it the polynomial is extrapolated.
+    Temperature is converted to IPTS-68 (t68 = 1.00024 t90).
+    """
+    s = np.asarray(salinity, dtype=float) - 35.0
+    t = 1.00024 * np.asarray(temperature_C, dtype=float)
+    p = 100.0 * np.asarray(pressure_MPa, dtype=float)  # dbar
+    atg = (
+        (((-2.1687e-16 * t + 1.8676e-14) * t - 4.6206e-13) * p
+         + ((2.7759e-12 * t - 1.1351e-10) * s + ((-5.4481e-14 * t + 8.733e-12) * t - 6.7795e-10) * t + 1.8741e-8)) * p
+        + (-4.2393e-8 * t + 1.8932e-6) * s
+        + ((6.6228e-10 * t - 6.836e-8) * t + 8.5258e-6) * t
+        + 3.5803e-5
+    )
+    return 100.0 * atg
+
+
+def adiabatic_temperature_C(pressure_MPa, top_temperature_C: float, salinity: float) -> np.ndarray:
+    """Temperature along an adiabat from the top of an ocean (degC).
+
+    Integrates dT/dp = :func:`adiabatic_lapse_rate_K_per_MPa` from the first
+    pressure down (scipy ``solve_ivp``, rtol 1e-10). Seawater's adiabat is used
+    for every solute, with the salinity in g/kg standing in for Practical
+    Salinity: an approximation for other brines, whose thermal expansivity is
+    not modelled.
+
+    Parameters
+    ----------
+    pressure_MPa : array_like, shape (S,)
+        Increasing gauge pressures (MPa); the first is the ocean top.
+    top_temperature_C : float
+        Temperature at the first pressure (degC).
+    salinity : float
+        Salinity (Practical Salinity, or g/kg for other solutes).
+
+    Returns
+    -------
+    ndarray, shape (S,)
+    """
+    from scipy.integrate import solve_ivp
+
+    p = np.asarray(pressure_MPa, dtype=float)
+    if p.size == 1:
+        return np.array([float(top_temperature_C)])
+
+    def rhs(p_mpa, t):
+        return [adiabatic_lapse_rate_K_per_MPa(salinity, t[0], p_mpa)]
+
+    sol = solve_ivp(rhs, (p[0], p[-1]), [float(top_temperature_C)], t_eval=p, rtol=1e-10, atol=1e-12)
+    return sol.y[0]
+
+
 def resolve_chemistry_layers(layers, body: dict, where: str, periods_h=None):
     """Replace chemistry-defined layers by the conductivity profile they imply.
 
@@ -237,12 +298,18 @@ def resolve_chemistry_layers(layers, body: dict, where: str, periods_h=None):
         except ValueError as exc:
             raise ValueError(f"{lw}: {exc}") from exc
         temperature = t_freeze_top if t_fixed is None else float(t_fixed)
+        shape = layer.extra.get("temperature_profile", "isothermal")
+        if shape not in ("isothermal", "adiabatic"):
+            raise ValueError(f"{lw}: temperature_profile must be 'isothermal' or 'adiabatic', got {shape!r}")
 
         def profile(nsub):
             edges = np.linspace(r_top, r_bot, nsub + 1)
             mid = 0.5 * (edges[:-1] + edges[1:])
             p = hydrostatic_pressure_MPa(mid, radii, density)
-            t = np.full(nsub, temperature)
+            if shape == "adiabatic":
+                t = adiabatic_temperature_C(np.concatenate([[p_top], p]), temperature, salinity)[1:]
+            else:
+                t = np.full(nsub, temperature)
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always")
                 try:
@@ -274,13 +341,13 @@ def resolve_chemistry_layers(layers, body: dict, where: str, periods_h=None):
             if nsub >= 4096:
                 raise ValueError(f"{lw}: the ocean profile did not converge to {CONVERGENCE_RTOL:g} with 4096 sub-layers")
             previous = current
-        if t_fixed is not None:
-            freeze = np.asarray(brine.freezing_point(solute, salinity, p))
-            if np.any(t < freeze):
-                raise ValueError(
-                    f"{lw}: temperature_C = {temperature:g} degC is below the freezing point "
-                    f"({freeze.max():.3f} degC at {p[np.argmax(freeze)]:.1f} MPa): the ocean would be frozen"
-                )
+        freeze = np.asarray(brine.freezing_point(solute, salinity, p, warn=False))
+        if np.any(t < freeze - 1e-9):
+            worst = int(np.argmax(freeze - t))
+            raise ValueError(
+                f"{lw}: temperature {t[worst]:.3f} degC at {p[worst]:.1f} MPa is below the freezing point "
+                f"{freeze[worst]:.3f} degC there: the ocean would be frozen (raise temperature_C)"
+            )
         prof = OceanProfile(
             solute=solute,
             salinity_g_per_kg=float(salinity),

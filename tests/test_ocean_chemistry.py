@@ -112,3 +112,30 @@ def test_missing_solute(tmp_path, capsys):
     path.write_text(path.read_text().replace('solute = "seawater"\n', ""))
     assert main(["respond", str(path)]) == 2
     assert "give solute" in capsys.readouterr().err
+
+
+def test_adiabatic_lapse_rate_check_value_and_gsw():
+    from induct.ocean import adiabatic_lapse_rate_K_per_MPa
+
+    # UNESCO 44 (Fofonoff & Millard 1983) check value for ATG: S=40, t68=40 degC, 10000 dbar -> 3.255976e-4 K/dbar.
+    assert adiabatic_lapse_rate_K_per_MPa(40.0, 40.0 / 1.00024, 100.0) == pytest.approx(3.255976e-2, rel=2e-7)
+    # Against TEOS-10 (gsw.adiabatic_lapse_rate_from_CT): within 1 % for 0-35 degC, 10-100 MPa, S 30-40
+    # (EOS-80 and TEOS-10 differ at that level).
+    import gsw
+
+    rng = np.random.default_rng(3)
+    sp, t, p = rng.uniform(30, 40, 200), rng.uniform(0, 35, 200), rng.uniform(10, 100, 200)
+    sa = sp * 35.16504 / 35
+    ref = gsw.adiabatic_lapse_rate_from_CT(sa, gsw.CT_from_t(sa, t, p * 100), p * 100) * 1e6
+    got = adiabatic_lapse_rate_K_per_MPa(sp, t, p)
+    rel = np.abs(got / ref - 1)
+    assert rel.max() < 0.01, (sp[rel.argmax()], t[rel.argmax()], p[rel.argmax()], got[rel.argmax()], ref[rel.argmax()])
+
+
+def test_adiabatic_profile(tmp_path):
+    sc = load_scenario(scenario_file(tmp_path, extra='temperature_profile = "adiabatic"'))
+    prof = sc.model.layer("ocean").extra["profile"]
+    # Deep water warms along the adiabat (positive lapse rate above ~10 MPa); never below freezing.
+    assert prof.temperature_C[-1] > prof.temperature_C[0]
+    freeze = brine.freezing_point("seawater", 35.0, prof.pressure_MPa, warn=False)
+    assert np.all(prof.temperature_C >= freeze)
