@@ -19,7 +19,16 @@ from scipy import special
 from .constants import MU0, SECONDS_PER_HOUR
 from .response import transfer
 
-__all__ = ["benchmark_models", "scipy_baseline", "BenchResult", "run_kernel_benchmark"]
+__all__ = [
+    "benchmark_models",
+    "scipy_baseline",
+    "BenchResult",
+    "run_kernel_benchmark",
+    "InversionBenchResult",
+    "run_inversion_benchmark",
+    "MapBenchResult",
+    "run_map_benchmark",
+]
 
 
 def benchmark_models(count: int, seed: int = 20261201):
@@ -158,4 +167,440 @@ def run_kernel_benchmark(count: int = 2_000_000, baseline_count: int = 20_000, r
         baseline_throughput=base_tp,
         speedup=throughput / base_tp,
         max_relative_difference=diff,
+    )
+
+
+# --------------------------------------------------------------------------------------------------
+# Distributed execution: a grid-misfit reduction timed in one process and on a local Dask cluster.
+
+
+def bench_interior_model():
+    """A 4-layer fictional moon for the distributed benchmark (radius 1540 km).
+
+    Ice shell 20 km (1e-6 S/m), ocean 100 km (3 S/m), mantle 900 km (0.01 S/m),
+    iron core filling the centre (1e5 S/m).
+    """
+    from .interior import InteriorModel, Layer
+
+    layers = [
+        Layer("ice", 1e-6, 20.0),
+        Layer("ocean", 3.0, 100.0),
+        Layer("mantle", 1e-2, 900.0),
+        Layer("core", 1e5, None),
+    ]
+    return InteriorModel(1540.0, layers, name="Ilmare")
+
+
+@dataclass
+class MisfitPartial:
+    """Partial reduction of :class:`GridMisfitTask` over some grid points (merge with :func:`combine_misfit`).
+
+    Attributes
+    ----------
+    count, invalid : int
+        Valid grid points, and points whose layers leave the fill layer no room.
+    min_chi2 : float
+        Smallest chi-square (inf if no valid point).
+    argmin : int
+        Flat grid index of ``min_chi2`` (the smallest index on ties; -1 if none).
+    chi2_hist : ndarray of int64, shape (B,)
+        Counts of chi-square in the task's bins.
+    marginals : tuple of ndarray, shape (n_k,) each
+        Per axis k, the sum of exp(-chi2/2) over all other axes (unnormalised marginal likelihood).
+    """
+
+    count: int
+    invalid: int
+    min_chi2: float
+    argmin: int
+    chi2_hist: np.ndarray
+    marginals: tuple
+
+
+def combine_misfit(a: MisfitPartial, b: MisfitPartial) -> MisfitPartial:
+    """Merge two partial reductions (associative and commutative up to rounding of the marginal sums)."""
+    if (b.min_chi2, b.argmin if b.argmin >= 0 else np.inf) < (a.min_chi2, a.argmin if a.argmin >= 0 else np.inf):
+        best, arg = b.min_chi2, b.argmin
+    else:
+        best, arg = a.min_chi2, a.argmin
+    return MisfitPartial(
+        count=a.count + b.count,
+        invalid=a.invalid + b.invalid,
+        min_chi2=best,
+        argmin=arg,
+        chi2_hist=a.chi2_hist + b.chi2_hist,
+        marginals=tuple(x + y for x, y in zip(a.marginals, b.marginals)),
+    )
+
+
+class GridMisfitTask:
+    """Task for :func:`induct.execution.run_reduction`: chi-square of a grid of model variants.
+
+    Flat index i is the grid point ``numpy.unravel_index(i, shape)`` (C order)
+    of the axes; each task evaluates R_n of its points at the P periods
+    through :meth:`InteriorModel.sweep_response` and returns a
+    :class:`MisfitPartial`, never the responses themselves.
+
+    Parameters
+    ----------
+    model : InteriorModel
+        Base interior.
+    axes : mapping of str to array_like
+        ``"LAYER.FIELD"`` -> grid values (shape (n_k,) each).
+    periods_s : array_like, shape (P,)
+        Periods (s).
+    observed : array_like of complex, shape (P,)
+        Measured R_n.
+    sigma : array_like, shape (P,)
+        Standard error of the real and of the imaginary part of R_n (dimensionless), > 0.
+    chi2_edges : array_like, shape (B + 1,)
+        Histogram bin edges of chi-square, increasing.
+    degree : int
+        Degree n.
+    """
+
+    def __init__(self, model, axes, periods_s, observed, sigma, chi2_edges, degree: int = 1):
+        self.model = model
+        self.names = tuple(axes)
+        self.axes = tuple(np.asarray(axes[k], dtype=float) for k in self.names)
+        self.shape = tuple(a.size for a in self.axes)
+        self.periods_s = np.asarray(periods_s, dtype=float)
+        self.observed = np.asarray(observed, dtype=complex)
+        self.sigma = np.asarray(sigma, dtype=float)
+        self.chi2_edges = np.asarray(chi2_edges, dtype=float)
+        self.degree = int(degree)
+
+    @property
+    def size(self) -> int:
+        """Number of grid points."""
+        return int(np.prod(self.shape))
+
+    def chi2(self, start: int, stop: int):
+        """Flat indices (shape (M,)) and chi-square (shape (M,), NaN where invalid) of points start..stop-1."""
+        flat = np.arange(start, stop)
+        index = np.unravel_index(flat, self.shape)
+        values = {name: axis[i] for name, axis, i in zip(self.names, self.axes, index)}
+        r = self.model.sweep_response(values, self.periods_s, self.degree)
+        return flat, np.sum(np.abs(r - self.observed) ** 2 / self.sigma**2, axis=-1)
+
+    def __call__(self, start: int, stop: int) -> MisfitPartial:
+        flat, chi2 = self.chi2(start, stop)
+        ok = np.isfinite(chi2)
+        index = np.unravel_index(flat[ok], self.shape)
+        good = chi2[ok]
+        weight = np.exp(-0.5 * good)
+        if good.size:
+            k = int(np.argmin(good))
+            best, arg = float(good[k]), int(flat[ok][k])
+        else:
+            best, arg = np.inf, -1
+        return MisfitPartial(
+            count=int(good.size),
+            invalid=int(flat.size - good.size),
+            min_chi2=best,
+            argmin=arg,
+            chi2_hist=np.histogram(good, self.chi2_edges)[0].astype(np.int64),
+            marginals=tuple(np.bincount(i, weights=weight, minlength=n) for i, n in zip(index, self.shape)),
+        )
+
+
+def bench_misfit_task(models: int, periods: int = 4, seed: int = 20261201) -> GridMisfitTask:
+    """A :class:`GridMisfitTask` on :func:`bench_interior_model` with about ``models`` grid points.
+
+    Axes: ice thickness 5-60 km (10 values), ocean thickness 10-200 km (10),
+    ocean conductivity 0.1-30 S/m (log-spaced, ceil(models / 100) values);
+    ``periods`` periods log-spaced over 1-1000 h. The "measured" responses are
+    those of the base model with Gaussian noise of 0.01 (fixed seed).
+    """
+    if models < 1 or periods < 1:
+        raise ValueError(f"models and periods must be >= 1, got {models} and {periods}")
+    model = bench_interior_model()
+    periods_s = np.logspace(0, 3, periods) * SECONDS_PER_HOUR
+    rng = np.random.default_rng(seed)
+    sigma = np.full(periods, 0.01)
+    observed = model.response(periods_s).response + sigma * (rng.standard_normal(periods) + 1j * rng.standard_normal(periods))
+    axes = {
+        "ice.thickness_km": np.linspace(5.0, 60.0, 10),
+        "ocean.thickness_km": np.linspace(10.0, 200.0, 10),
+        "ocean.conductivity_S_per_m": np.logspace(-1, np.log10(30.0), -(-models // 100)),
+    }
+    edges = np.concatenate([[0.0], np.logspace(-1, 6, 57), [np.inf]])
+    return GridMisfitTask(model, axes, periods_s, observed, sigma, edges)
+
+
+def misfit_difference(a: MisfitPartial, b: MisfitPartial) -> float:
+    """Largest relative difference between two reductions (inf if counts, histogram or best index differ)."""
+    if (a.count, a.invalid, a.argmin) != (b.count, b.invalid, b.argmin) or not np.array_equal(a.chi2_hist, b.chi2_hist):
+        return np.inf
+    worst = abs(a.min_chi2 - b.min_chi2) / max(abs(a.min_chi2), np.finfo(float).tiny)
+    for x, y in zip(a.marginals, b.marginals):
+        scale = np.maximum(np.abs(x), np.finfo(float).tiny)
+        worst = max(worst, float(np.max(np.abs(x - y) / scale)))
+    return float(worst)
+
+
+@dataclass
+class DistributedBenchResult:
+    """Measured figures of :func:`run_distributed_benchmark` (seconds are wall-clock, best of the repeats)."""
+
+    workers: int
+    models: int
+    model_periods: int
+    chunk_models: int
+    tasks: int
+    single_seconds: float
+    single_throughput: float
+    cluster_seconds: float
+    cluster_throughput: float
+    speedup: float
+    startup_seconds: float
+    small_models: int
+    small_single_seconds: float
+    small_cluster_seconds: float
+    small_overhead_seconds: float
+    max_relative_difference: float
+
+
+def _timed(func, repeat: int):
+    """Best wall-clock time of ``repeat`` calls (s) and the last call's result."""
+    best, out = np.inf, None
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        out = func()
+        best = min(best, time.perf_counter() - t0)
+    return best, out
+
+
+def run_distributed_benchmark(
+    model_periods: int = 20_000_000,
+    workers: int = 2,
+    *,
+    small_models: int = 10_000,
+    chunk_models: int = 65_536,
+    periods: int = 4,
+    repeat: int = 1,
+) -> DistributedBenchResult:
+    """Throughput of a grid-misfit reduction in one process and on a local Dask cluster.
+
+    The same :class:`GridMisfitTask` (``model_periods / periods`` models,
+    ``periods`` periods each, chunks of ``chunk_models`` models) runs through
+    :func:`induct.execution.run_reduction` in-process and on a local cluster
+    of ``workers`` single-threaded worker processes (started once; its
+    start-up time is reported apart). The small run (``small_models``
+    models) shows the fixed cost of going through the cluster. Throughput is
+    model-periods per second.
+
+    Raises
+    ------
+    ImportError
+        If dask[distributed] is not installed.
+    """
+    from .distributed import DaskBackend
+    from .execution import InProcess, run_reduction
+
+    for name, value in (("model_periods", model_periods), ("workers", workers), ("small_models", small_models),
+                        ("chunk_models", chunk_models), ("periods", periods), ("repeat", repeat)):
+        if value < 1:
+            raise ValueError(f"{name} must be >= 1, got {value}")
+    big = bench_misfit_task(-(-model_periods // periods), periods)
+    small = bench_misfit_task(small_models, periods)
+
+    def run(task, backend):
+        return run_reduction(task, task.size, chunk_size=chunk_models, combine=combine_misfit, backend=backend)
+
+    local = InProcess()
+    run(small, local)  # warm caches
+    small_single, _ = _timed(lambda: run(small, local), 3)
+    single, reference = _timed(lambda: run(big, local), repeat)
+    t0 = time.perf_counter()
+    with DaskBackend(workers=workers) as backend:
+        backend.client.wait_for_workers(workers)
+        startup = time.perf_counter() - t0
+        run(small, backend)  # the workers import induct on their first task
+        small_cluster, _ = _timed(lambda: run(small, backend), 3)
+        cluster, result = _timed(lambda: run(big, backend), repeat)
+    mp = big.size * periods
+    return DistributedBenchResult(
+        workers=workers,
+        models=big.size,
+        model_periods=mp,
+        chunk_models=chunk_models,
+        tasks=-(-big.size // chunk_models),
+        single_seconds=single,
+        single_throughput=mp / single,
+        cluster_seconds=cluster,
+        cluster_throughput=mp / cluster,
+        speedup=single / cluster,
+        startup_seconds=startup,
+        small_models=small.size,
+        small_single_seconds=small_single,
+        small_cluster_seconds=small_cluster,
+        small_overhead_seconds=small_cluster - small_single,
+        max_relative_difference=misfit_difference(reference, result),
+    )
+
+
+# --------------------------------------------------------------------------- inversion benchmark
+@dataclass
+class InversionBenchResult:
+    """Measured figures of a grid inversion (see :func:`run_inversion_benchmark`)."""
+
+    grid_points: int
+    parameters: int
+    periods: int
+    model_periods: int
+    seconds: float
+    throughput: float
+    peak_rss_mb: float
+    rss_increase_mb: float
+    memory_method: str
+    chi2_min: float
+
+
+def _current_rss_mb() -> float:
+    """Resident set size of this process now (MB), from /proc/self/statm (Linux); NaN elsewhere."""
+    import os
+
+    try:
+        with open("/proc/self/statm") as fh:
+            pages = int(fh.read().split()[1])
+        return pages * os.sysconf("SC_PAGE_SIZE") / 1e6
+    except (OSError, ValueError, IndexError):  # pragma: no cover - non-Linux
+        return float("nan")
+
+
+def _peak_rss_mb() -> float:
+    """Peak resident set size of this process so far (MB): getrusage ru_maxrss (kB on Linux)."""
+    import resource
+    import sys
+
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    return peak / 1e6 if sys.platform == "darwin" else peak / 1e3
+
+
+def run_inversion_benchmark(grid_points: int = 120, progress: bool = False) -> InversionBenchResult:
+    """Time a 3-parameter grid inversion of the bundled scenario Ilmare at its three periods.
+
+    Free parameters: ice-shell thickness 1-60 km, ocean thickness 5-250 km
+    (uniform) and ocean conductivity 0.05-30 S/m (log-uniform); data: the
+    scenario's own responses with amplitude sigma 0.02 and phase sigma 1.5 deg.
+    The whole :func:`induct.inversion.invert` call is timed once (forward
+    model, chi-square, marginal histograms, 2-D maps, summary).
+
+    Memory: the process's peak resident set size (``resource.getrusage``
+    ``ru_maxrss``) after the run, and its increase over the resident set size
+    just before the run (``/proc/self/statm``). The peak includes the Python
+    interpreter and the imported libraries.
+    """
+    from .inversion import invert
+    from .measurements import parse_measurements
+    from .scenario import load_scenario
+
+    sc = load_scenario("ilmare")
+    r = sc.model.response(periods_h=sc.periods_h)
+    doc = {
+        "response": [
+            {"period_h": float(p), "amplitude": float(a), "amplitude_sigma": 0.02,
+             "phase_lag_deg": float(ph), "phase_lag_sigma_deg": 1.5}
+            for p, a, ph in zip(sc.periods_h, r.amplitude, r.phase_lag_deg)
+        ]
+    }
+    data = parse_measurements(doc, source="benchmark")
+    table = {
+        "ice shell.thickness_km": {"range": [1.0, 60.0]},
+        "ocean.thickness_km": {"range": [5.0, 250.0]},
+        "ocean.conductivity_S_per_m": {"range": [0.05, 30.0], "scale": "log"},
+    }
+    before = _current_rss_mb()
+    t0 = time.perf_counter()
+    result = invert(sc.model, data, table, sampler="grid", grid_points=grid_points, progress=progress)
+    seconds = time.perf_counter() - t0
+    peak = _peak_rss_mb()
+    model_periods = grid_points**3 * data.n_entries
+    return InversionBenchResult(
+        grid_points=grid_points,
+        parameters=3,
+        periods=data.n_entries,
+        model_periods=model_periods,
+        seconds=seconds,
+        throughput=model_periods / seconds,
+        peak_rss_mb=peak,
+        rss_increase_mb=peak - before,
+        memory_method="resource.getrusage ru_maxrss (process peak) minus /proc/self/statm RSS before the run",
+        chi2_min=result.chi2_min,
+    )
+
+
+# --------------------------------------------------------------------------- feasibility-map benchmark
+@dataclass
+class MapBenchResult:
+    """Measured time of a feasibility map (see :func:`run_map_benchmark`)."""
+
+    nx: int
+    ny: int
+    cells: int
+    period_h: float
+    quantity: str
+    first_seconds: float
+    seconds: float
+    cells_per_second: float
+    output_seconds: float
+
+
+def run_map_benchmark(size: int = 400, repeat: int = 3, quantity: str = "amplitude", outputs: bool = True) -> MapBenchResult:
+    """Time :func:`induct.maps.feasibility_map` on a ``size`` x ``size`` grid at one period.
+
+    The bundled scenario Ilmare, ice-shell thickness 1-100 km (linear) against
+    ocean conductivity 0.05-50 S/m (logarithmic), period 12.12 h, in-process
+    backend. ``seconds`` is the best of ``repeat`` calls (wall clock),
+    ``first_seconds`` the first call; ``output_seconds`` is one round of
+    writing the figure (PNG and PDF), CSV and NetCDF to a temporary folder
+    (NaN when ``outputs`` is False or xarray/h5netcdf are missing).
+    """
+    import tempfile
+    from pathlib import Path
+
+    from .maps import feasibility_map
+    from .scenario import load_scenario
+
+    if int(size) < 2 or int(repeat) < 1:
+        raise ValueError(f"size must be >= 2 and repeat >= 1, got {size} and {repeat}")
+    if quantity not in ("amplitude", "phase_lag_deg", "induced_nT"):
+        raise ValueError(f"quantity must be amplitude, phase_lag_deg or induced_nT, got {quantity!r}")
+    model = load_scenario("ilmare").model
+    x, y = f"ice shell.thickness_km=1:100:{size}", f"ocean.conductivity_S_per_m=0.05:50:{size}:log"
+    kwargs = {"drive_nT": 200.0, "altitude_km": 100.0} if quantity == "induced_nT" else {}
+
+    def once():
+        return feasibility_map(model, x, y, 12.12, quantity, **kwargs)
+
+    t0 = time.perf_counter()
+    result = once()
+    first = time.perf_counter() - t0
+    best = min(first, _best_time(once, int(repeat) - 1)) if repeat > 1 else first
+    out_seconds = float("nan")
+    if outputs:
+        from .map_output import plot_map
+
+        with tempfile.TemporaryDirectory() as tmp:
+            prefix = Path(tmp) / "map"
+            t0 = time.perf_counter()
+            plot_map(result, prefix)
+            result.write_csv(prefix.with_suffix(".csv"))
+            try:
+                result.write_netcdf(prefix.with_suffix(".nc"))
+            except ImportError:
+                pass
+            out_seconds = time.perf_counter() - t0
+    cells = int(size) ** 2
+    return MapBenchResult(
+        nx=int(size),
+        ny=int(size),
+        cells=cells,
+        period_h=12.12,
+        quantity=quantity,
+        first_seconds=first,
+        seconds=best,
+        cells_per_second=cells / best,
+        output_seconds=out_seconds,
     )

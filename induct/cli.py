@@ -26,6 +26,7 @@ COMMANDS = (
     "bench",
     "demo",
     "brine",
+    "invert",
 )
 
 

@@ -178,9 +178,17 @@ def _periods(drive: dict, where: str) -> np.ndarray:
 
 
 def bundled_scenarios() -> dict[str, Path]:
-    """Scenarios shipped with induct: name (file stem) -> path."""
+    """Scenarios shipped with induct: name (file stem) -> path.
+
+    Only files with a ``[body]`` table count; the folder also holds planet and
+    measurement files.
+    """
     root = resources.files("induct.scenarios")
-    return {p.name[:-5]: Path(str(p)) for p in root.iterdir() if p.name.endswith(".toml")}
+    out = {}
+    for p in root.iterdir():
+        if p.name.endswith(".toml") and any(line.strip() == "[body]" for line in p.read_text().splitlines()):
+            out[p.name[:-5]] = Path(str(p))
+    return out
 
 
 def resolve_scenario_path(name_or_path) -> Path:

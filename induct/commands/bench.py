@@ -20,10 +20,31 @@ def register(subparsers):
     p.add_argument("--baseline-model-periods", type=int, default=20_000, help="model-periods for the baseline (default 2e4)")
     p.add_argument("--repeat", type=int, default=3, help="timing repeats; the best is reported (default 3)")
     p.add_argument("--json", action="store_true", help="print the figures as JSON")
+    p.add_argument("--map", action="store_true", help="instead: time a feasibility map (Ilmare, ice thickness x ocean conductivity, one period)")
+    p.add_argument("--map-size", type=int, default=400, metavar="N", help="grid points per axis for --map (default 400: 160,000 cells)")
+    p.add_argument(
+        "--dask-workers", type=int, default=None, metavar="N",
+        help="instead: time a grid-misfit reduction in one process and on a local Dask cluster of N workers "
+        "(needs induct[dask]), and the overhead of a small grid",
+    )
+    p.add_argument(
+        "--dask-model-periods", type=int, default=20_000_000,
+        help="model-periods of the --dask-workers run (default 2e7)",
+    )
+    p.add_argument("--inversion", action="store_true",
+                   help="instead: time a 3-parameter grid inversion (Ilmare, 3 periods) and its peak memory")
+    p.add_argument("--inversion-grid", type=int, default=120, metavar="N",
+                   help="grid points per axis for --inversion (default 120: 5.2 million model-periods)")
     return p
 
 
 def run(args) -> int:
+    if getattr(args, "map", False):
+        return _run_map(args)
+    if getattr(args, "inversion", False):
+        return _run_inversion(args)
+    if getattr(args, "dask_workers", None) is not None:
+        return _run_dask(args)
     from ..bench import run_kernel_benchmark
 
     for name in ("model_periods", "baseline_model_periods", "repeat"):
@@ -43,3 +64,66 @@ def run(args) -> int:
     )
     print(f"  speed-up over baseline: {res.speedup:.1f}x; largest relative difference kernel vs baseline: {res.max_relative_difference:.1e}")
     return 0
+
+
+def _run_inversion(args) -> int:
+    from ..bench import run_inversion_benchmark
+
+    if args.inversion_grid < 2:
+        raise ValueError(f"--inversion-grid must be >= 2 points per axis, got {args.inversion_grid}")
+    res = run_inversion_benchmark(args.inversion_grid, progress=not args.json)
+    if args.json:
+        print(json.dumps(res.__dict__, indent=2))
+        return 0
+    n = res.grid_points
+    print(f"induct bench --inversion on {platform.machine()} ({os.cpu_count()} cores), numpy kernel, one process")
+    print(f"  grid inversion of Ilmare: {res.parameters} parameters, {n} x {n} x {n} grid, {res.periods} periods")
+    print(f"  {res.model_periods:,d} model-periods in {res.seconds:.2f} s -> {res.throughput:,.0f} model-periods/s (one run, wall clock)")
+    print(f"  peak memory: {res.peak_rss_mb:.0f} MB resident (process peak, ru_maxrss), {res.rss_increase_mb:.0f} MB above the resident size before the run")
+    print(f"  memory measured with {res.memory_method}")
+    return 0
+
+
+def _run_dask(args) -> int:
+    """``--dask-workers N``: one process against a local Dask cluster on the same grid-misfit reduction."""
+    from ..bench import run_distributed_benchmark
+
+    if args.dask_workers < 1:
+        raise ValueError(f"--dask-workers must be >= 1, got {args.dask_workers}")
+    if args.dask_model_periods < 1:
+        raise ValueError(f"--dask-model-periods must be >= 1, got {args.dask_model_periods}")
+    res = run_distributed_benchmark(args.dask_model_periods, args.dask_workers)
+    if args.json:
+        print(json.dumps(res.__dict__, indent=2))
+        return 0
+    print(f"induct bench on {platform.machine()} ({os.cpu_count()} cores): grid misfit (min chi-square, histograms)")
+    print(f"  {res.models:,d} models x {res.model_periods // res.models} periods in {res.tasks} tasks of {res.chunk_models:,d} models")
+    print(f"  one process:      {res.single_seconds:8.2f} s  -> {res.single_throughput:12,.0f} model-periods/s")
+    print(
+        f"  {res.workers} Dask workers:   {res.cluster_seconds:8.2f} s  -> {res.cluster_throughput:12,.0f} model-periods/s "
+        f"({res.speedup:.2f}x; cluster start-up {res.startup_seconds:.1f} s not included)"
+    )
+    print(
+        f"  small grid ({res.small_models:,d} models): {res.small_single_seconds * 1e3:.0f} ms in one process, "
+        f"{res.small_cluster_seconds * 1e3:.0f} ms on the cluster (overhead {res.small_overhead_seconds * 1e3:.0f} ms)"
+    )
+    print(f"  largest relative difference between the two results: {res.max_relative_difference:.1e}")
+    return 0
+
+
+def _run_map(args) -> int:
+    """``--map``: time a feasibility map of ``--map-size`` squared cells at one period."""
+    from ..bench import run_map_benchmark
+
+    if args.map_size < 2 or args.repeat < 1:
+        raise ValueError(f"--map-size must be >= 2 and --repeat >= 1, got {args.map_size} and {args.repeat}")
+    res = run_map_benchmark(args.map_size, args.repeat)
+    if args.json:
+        print(json.dumps(res.__dict__, indent=2))
+        return 0
+    print(f"induct bench --map on {platform.machine()} ({os.cpu_count()} cores), numpy kernel, one process")
+    print(f"  Ilmare: ice shell thickness x ocean conductivity, {res.nx} x {res.ny} = {res.cells:,d} cells, {res.quantity} at {res.period_h:g} h")
+    print(f"  map computation: {res.seconds:.3f} s (best of {args.repeat}; first call {res.first_seconds:.3f} s) -> {res.cells_per_second:,.0f} cells/s")
+    print(f"  writing PNG, PDF, CSV and NetCDF once: {res.output_seconds:.2f} s")
+    return 0
+
