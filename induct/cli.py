@@ -27,6 +27,7 @@ COMMANDS = (
     "demo",
     "brine",
     "invert",
+    "drive",
 )
 
 

@@ -286,13 +286,18 @@ def tilted_dipole_coefficients(b0_nT: float, tilt_deg: float, tilt_longitude_deg
 
 # --------------------------------------------------------------------------- field models
 class InternalField:
-    """Base class of internal-field models; subclasses give one of the two private evaluators."""
+    """Base class of internal-field models.
 
-    def _spherical(self, r, theta, phi):  # pragma: no cover - overridden or derived
+    A subclass overrides at least one of the unchecked evaluators ``_spherical(r, theta, phi)``
+    (1-D arrays, SI) and ``_cartesian(xyz)`` (shape (K, 3), m); the other follows by rotation.
+    The public methods check their input and keep the input's shape.
+    """
+
+    def _spherical(self, r, theta, phi):
         xyz = np.stack([r * np.sin(theta) * np.cos(phi), r * np.sin(theta) * np.sin(phi), r * np.cos(theta)], -1)
         return _cartesian_to_spherical_vectors(self._cartesian(xyz), theta, phi)
 
-    def _cartesian(self, xyz):  # pragma: no cover - overridden or derived
+    def _cartesian(self, xyz):
         r, theta, phi = cartesian_to_spherical(xyz)
         return spherical_to_cartesian_vectors(self._spherical(r, theta, phi), theta, phi)
 
