@@ -28,6 +28,9 @@ COMMANDS = (
     "brine",
     "invert",
     "drive",
+    "map",
+    "diagram",
+    "separate",
 )
 
 

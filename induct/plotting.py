@@ -26,7 +26,6 @@ __all__ = [
     "figure",
     "save_figure",
     "LIMITS_CAPTION",
-    "outlined",
     "filled_contours",
     "two_line_title",
     "covariance_ellipse",
@@ -93,13 +92,6 @@ def save_figure(fig, path, *, formats=("png", "pdf")) -> list[Path]:
 
 
 # --------------------------------------------------------------------------- helpers for maps and diagrams
-def outlined(width: float = 3.5, color: str = "black"):
-    """Path effects that draw a line with a contrasting outline (readable on any colormap)."""
-    from matplotlib import patheffects
-
-    return [patheffects.withStroke(linewidth=width, foreground=color)]
-
-
 class ContourPair:
     """Filled contours and their labelled contour lines (``.filled``, ``.lines``, ``.levels``, ``.log``)."""
 
@@ -139,12 +131,16 @@ def contour_levels(z, levels: int = 12):
     return ticker.MaxNLocator(levels).tick_values(lo, hi), False
 
 
-def filled_contours(ax, x, y, z, *, levels: int = 12, log_x: bool = False, log_y: bool = False, cmap=None, label_lines: bool = True):
+def filled_contours(
+    ax, x, y, z, *, levels: int = 12, log_x: bool = False, log_y: bool = False, cmap=None, label_lines: bool = True, bounds=None
+):
     """Filled contours of ``z`` (shape (ny, nx)) over ``x`` (nx,), ``y`` (ny,) with labelled contour lines.
 
     Levels come from :func:`contour_levels` (logarithmic for positive data
     spanning more than two decades). Every second line is labelled when there
-    are more than eight levels. NaN cells stay empty.
+    are more than eight levels. NaN cells stay empty. ``bounds = (lo, hi)``
+    keeps the levels inside a physical range (e.g. 0-90 degrees of phase lag),
+    replacing an outermost level beyond it by the bound itself.
 
     Returns
     -------
@@ -154,6 +150,12 @@ def filled_contours(ax, x, y, z, *, levels: int = 12, log_x: bool = False, log_y
     from matplotlib import colors, ticker
 
     lev, log = contour_levels(z, levels)
+    if bounds is not None and not log:
+        lo, hi = bounds
+        if lev[0] < lo <= np.nanmin(z):
+            lev = np.concatenate([[lo], lev[lev > lo]])
+        if lev[-1] > hi >= np.nanmax(z):
+            lev = np.concatenate([lev[lev < hi], [hi]])
     norm = colors.LogNorm(lev[0], lev[-1]) if log else None
     filled = ax.contourf(x, y, z, levels=lev, cmap=cmap or SEQUENTIAL_CMAP, norm=norm, extend="neither")
     lines = ax.contour(x, y, z, levels=lev, colors="black", linewidths=0.6, alpha=0.75)
