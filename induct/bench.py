@@ -28,6 +28,8 @@ __all__ = [
     "run_inversion_benchmark",
     "MapBenchResult",
     "run_map_benchmark",
+    "FlybyBenchResult",
+    "run_flyby_benchmark",
 ]
 
 
@@ -358,6 +360,9 @@ class DistributedBenchResult:
     small_single_seconds: float
     small_cluster_seconds: float
     small_overhead_seconds: float
+    split_tasks: int
+    split_single_seconds: float
+    split_cluster_seconds: float
     max_relative_difference: float
 
 
@@ -387,7 +392,8 @@ def run_distributed_benchmark(
     :func:`induct.execution.run_reduction` in-process and on a local cluster
     of ``workers`` single-threaded worker processes (started once; its
     start-up time is reported apart). The small run (``small_models``
-    models) shows the fixed cost of going through the cluster. Throughput is
+    models, one task) shows the fixed cost of going through the cluster, and
+    the same grid cut into about 100 tasks the cost per task. Throughput is
     model-periods per second.
 
     Raises
@@ -405,12 +411,15 @@ def run_distributed_benchmark(
     big = bench_misfit_task(-(-model_periods // periods), periods)
     small = bench_misfit_task(small_models, periods)
 
-    def run(task, backend):
-        return run_reduction(task, task.size, chunk_size=chunk_models, combine=combine_misfit, backend=backend)
+    split = max(1, small.size // 100)  # the small grid again, as 100 tasks: the cost per task
+
+    def run(task, backend, chunk=chunk_models):
+        return run_reduction(task, task.size, chunk_size=chunk, combine=combine_misfit, backend=backend)
 
     local = InProcess()
     run(small, local)  # warm caches
     small_single, _ = _timed(lambda: run(small, local), 3)
+    split_single, _ = _timed(lambda: run(small, local, split), 3)
     single, reference = _timed(lambda: run(big, local), repeat)
     t0 = time.perf_counter()
     with DaskBackend(workers=workers) as backend:
@@ -418,6 +427,7 @@ def run_distributed_benchmark(
         startup = time.perf_counter() - t0
         run(small, backend)  # the workers import induct on their first task
         small_cluster, _ = _timed(lambda: run(small, backend), 3)
+        split_cluster, _ = _timed(lambda: run(small, backend, split), 3)
         cluster, result = _timed(lambda: run(big, backend), repeat)
     mp = big.size * periods
     return DistributedBenchResult(
@@ -436,6 +446,9 @@ def run_distributed_benchmark(
         small_single_seconds=small_single,
         small_cluster_seconds=small_cluster,
         small_overhead_seconds=small_cluster - small_single,
+        split_tasks=-(-small.size // split),
+        split_single_seconds=split_single,
+        split_cluster_seconds=split_cluster,
         max_relative_difference=misfit_difference(reference, result),
     )
 
@@ -603,4 +616,53 @@ def run_map_benchmark(size: int = 400, repeat: int = 3, quantity: str = "amplitu
         seconds=best,
         cells_per_second=cells / best,
         output_seconds=out_seconds,
+    )
+
+
+# --------------------------------------------------------------------------- flyby benchmark
+@dataclass
+class FlybyBenchResult:
+    """Measured time of the induced field along a long trajectory (see :func:`run_flyby_benchmark`)."""
+
+    points: int
+    periods: int
+    seconds: float
+    kernel_seconds: float
+    points_per_second: float
+    point_periods_per_second: float
+
+
+def run_flyby_benchmark(points: int = 1_000_000, repeat: int = 3, seed: int = 20261205) -> FlybyBenchResult:
+    """Time :func:`induct.induced_field.induced_field` on ``points`` positions and times.
+
+    The bundled scenario Ilmare with its [[drive.lines]] (5 periods), random
+    positions 25-5000 km above the surface and random times over 12 days.
+    ``seconds`` is the best of ``repeat`` calls of the checked function (input
+    checks, the responses R_1 and the field); ``kernel_seconds`` the best of
+    ``repeat`` calls of the unchecked kernel :func:`induct.induced_field.induced_field_nT`.
+    """
+    from .induced_field import induced_field, induced_field_nT
+    from .scenario import load_scenario
+
+    if int(points) < 1 or int(repeat) < 1:
+        raise ValueError(f"points and repeat must be >= 1, got {points} and {repeat}")
+    sc = load_scenario("ilmare")
+    lines = sc.drive_lines
+    rng = np.random.default_rng(seed)
+    u = rng.normal(size=(int(points), 3))
+    u /= np.linalg.norm(u, axis=1)[:, None]
+    pos = u * (sc.model.radius_km + rng.uniform(25.0, 5000.0, int(points)))[:, None]
+    t = np.sort(rng.uniform(0.0, 12 * 86400.0, int(points)))
+    periods = np.array([ln.period_s for ln in lines])
+    amps = np.array([ln.b_complex_nT for ln in lines])
+    resp = sc.model.response(periods_s=periods).response
+    seconds = _best_time(lambda: induced_field(sc.model, lines, pos, t), int(repeat))
+    kernel = _best_time(lambda: induced_field_nT(pos, t, sc.model.radius_km, resp, amps, periods), int(repeat))
+    return FlybyBenchResult(
+        points=int(points),
+        periods=len(lines),
+        seconds=seconds,
+        kernel_seconds=kernel,
+        points_per_second=points / seconds,
+        point_periods_per_second=points * len(lines) / seconds,
     )

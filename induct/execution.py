@@ -89,7 +89,12 @@ def run_reduction(
     The merged result, or ``None`` when ``total`` is 0.
     """
     backend = backend or InProcess()
+    ranges = chunk_ranges(total, chunk_size)
+    # Backends that can merge on their workers (Dask) do so: only the final result travels back.
+    reduce_ranges = getattr(backend, "reduce_ranges", None)
+    if reduce_ranges is not None:
+        return reduce_ranges(task, ranges, combine, desc, progress) if ranges else None
     result = None
-    for part in backend.map_ranges(task, chunk_ranges(total, chunk_size), desc, progress):
+    for part in backend.map_ranges(task, ranges, desc, progress):
         result = part if result is None else combine(result, part)
     return result

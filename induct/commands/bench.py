@@ -35,10 +35,16 @@ def register(subparsers):
                    help="instead: time a 3-parameter grid inversion (Ilmare, 3 periods) and its peak memory")
     p.add_argument("--inversion-grid", type=int, default=120, metavar="N",
                    help="grid points per axis for --inversion (default 120: 5.2 million model-periods)")
+    p.add_argument("--flyby", action="store_true",
+                   help="instead: time the induced field along a trajectory (Ilmare, its 5 driving lines)")
+    p.add_argument("--flyby-points", type=int, default=1_000_000, metavar="N",
+                   help="trajectory points for --flyby (default 1e6)")
     return p
 
 
 def run(args) -> int:
+    if getattr(args, "flyby", False):
+        return _run_flyby(args)
     if getattr(args, "map", False):
         return _run_map(args)
     if getattr(args, "inversion", False):
@@ -104,8 +110,12 @@ def _run_dask(args) -> int:
         f"({res.speedup:.2f}x; cluster start-up {res.startup_seconds:.1f} s not included)"
     )
     print(
-        f"  small grid ({res.small_models:,d} models): {res.small_single_seconds * 1e3:.0f} ms in one process, "
-        f"{res.small_cluster_seconds * 1e3:.0f} ms on the cluster (overhead {res.small_overhead_seconds * 1e3:.0f} ms)"
+        f"  small grid ({res.small_models:,d} models, one task): {res.small_single_seconds * 1e3:.0f} ms in one process, "
+        f"{res.small_cluster_seconds * 1e3:.0f} ms on the cluster (overhead {res.small_overhead_seconds * 1e3:+.0f} ms)"
+    )
+    print(
+        f"  the same grid as {res.split_tasks} tasks: {res.split_single_seconds * 1e3:.0f} ms in one process, "
+        f"{res.split_cluster_seconds * 1e3:.0f} ms on the cluster"
     )
     print(f"  largest relative difference between the two results: {res.max_relative_difference:.1e}")
     return 0
@@ -127,3 +137,19 @@ def _run_map(args) -> int:
     print(f"  writing PNG, PDF, CSV and NetCDF once: {res.output_seconds:.2f} s")
     return 0
 
+
+def _run_flyby(args) -> int:
+    """``--flyby``: time the induced field at ``--flyby-points`` positions and times."""
+    from ..bench import run_flyby_benchmark
+
+    if args.flyby_points < 1 or args.repeat < 1:
+        raise ValueError(f"--flyby-points and --repeat must be >= 1, got {args.flyby_points} and {args.repeat}")
+    res = run_flyby_benchmark(args.flyby_points, args.repeat)
+    if args.json:
+        print(json.dumps(res.__dict__, indent=2))
+        return 0
+    print(f"induct bench --flyby on {platform.machine()} ({os.cpu_count()} cores), numpy, one process")
+    print(f"  Ilmare: induced field at {res.points:,d} trajectory points x {res.periods} periods")
+    print(f"  checked induced_field: {res.seconds:.3f} s (best of {args.repeat}) -> {res.points_per_second:,.0f} points/s")
+    print(f"  unchecked kernel induced_field_nT: {res.kernel_seconds:.3f} s")
+    return 0

@@ -6,6 +6,8 @@ import json
 
 from ..posterior import NOT_MODELLED
 from ..tables import Column, format_table
+from ..inversion import GRID_TASK_MODELS
+from ._cluster import add_cluster_options, backend_for
 
 
 def register(subparsers):
@@ -32,6 +34,7 @@ def register(subparsers):
     p.add_argument("--plot", metavar="FILE", help="write the corner figure to FILE (.png and .pdf)")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    add_cluster_options(p, GRID_TASK_MODELS)
     return p
 
 
@@ -57,11 +60,13 @@ def run(args) -> int:
         raise ValueError(f"--grid must be >= 2 points per axis, got {args.grid}")
     if args.list < 0:
         raise ValueError(f"--list must be >= 0, got {args.list}")
-    result = invert(
-        scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
-        cap=max(args.list, DEFAULT_LIST_CAP), progress=not args.no_progress and not args.json,
-        steps=args.steps, walkers=args.walkers, seed=args.seed,
-    )
+    with backend_for(args) as backend:
+        result = invert(
+            scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
+            cap=max(args.list, DEFAULT_LIST_CAP), progress=not args.no_progress and not args.json,
+            steps=args.steps, walkers=args.walkers, seed=args.seed,
+            backend=backend, chunk_size=args.task_size,
+        )
     written = []
     if args.plot:
         from ..corner import save_corner

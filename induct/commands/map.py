@@ -6,7 +6,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ..maps import QUANTITIES, feasibility_map, parse_axis_spec
+from ..maps import DEFAULT_TASK_SIZE, QUANTITIES, feasibility_map, parse_axis_spec
+from ._cluster import add_cluster_options, backend_for
 from ..measurements import load_measurements
 from ..plotting import LIMITS_CAPTION
 from ..scenario import load_scenario
@@ -46,6 +47,7 @@ def register(subparsers):
     p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix: writes PREFIX.png, .pdf, .nc, .csv")
     p.add_argument("--no-netcdf", action="store_true", help="do not write PREFIX.nc (no xarray/h5netcdf needed)")
     p.add_argument("--progress", action="store_true", help="show a progress bar")
+    add_cluster_options(p, DEFAULT_TASK_SIZE)
     return p
 
 
@@ -68,7 +70,13 @@ def run(args) -> int:
         ref_scenario = load_scenario(args.reference)
         reference, label = ref_scenario.model, Path(args.reference).stem
     measurements = load_measurements(args.data) if args.data else None
-    result = feasibility_map(
+    with backend_for(args) as backend:
+        result = _compute(args, scenario, period, reference, label, measurements, backend)
+    return _write(args, scenario, result)
+
+
+def _compute(args, scenario, period, reference, label, measurements, backend):
+    return feasibility_map(
         scenario.model,
         parse_axis_spec(args.x, scenario.model, "--x"),
         parse_axis_spec(args.y, scenario.model, "--y"),
@@ -84,7 +92,12 @@ def run(args) -> int:
         noise_nT=args.noise_nT,
         k=args.k,
         progress=args.progress,
+        backend=backend,
+        chunk_size=args.task_size,
     )
+
+
+def _write(args, scenario, result) -> int:
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
     from ..map_output import plot_map
