@@ -23,14 +23,16 @@ from . import __version__
 #: Sub-command modules, in the order ``induct --help`` lists them.
 COMMANDS = (
     "respond",
-    "bench",
-    "demo",
     "brine",
-    "invert",
     "drive",
+    "flyby",
+    "fit",
+    "invert",
     "map",
     "diagram",
     "separate",
+    "demo",
+    "bench",
 )
 
 
