@@ -118,8 +118,8 @@ def contour_levels(z, levels: int = 12):
         raise ValueError("nothing to contour: every value is NaN")
     lo, hi = float(finite.min()), float(finite.max())
     if lo > 0 and hi / lo > 100:
-        lev = ticker.LogLocator(subs=(1.0, 2.0, 5.0)).tick_values(lo, hi)
-        lev = lev[(lev >= lo / 10) & (lev <= hi * 10)]
+        decades = np.arange(np.floor(np.log10(lo)) - 1, np.ceil(np.log10(hi)) + 2)
+        lev = np.sort(np.outer(10.0**decades, [1.0, 2.0, 5.0]).ravel())
         # keep levels that bracket the data; contourf needs the extremes covered
         below = lev[lev <= lo]
         above = lev[lev >= hi]

@@ -78,11 +78,6 @@ def test_respond_csv(tmp_path, capsys):
     assert len(rows) == 3
 
 
-def test_demo_runs(capsys):
-    assert main(["demo"]) == 0
-    assert "Ilmare" in capsys.readouterr().out
-
-
 def test_bench_small_runs(capsys):
     assert main(["bench", "--model-periods", "2000", "--baseline-model-periods", "200", "--repeat", "1", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)

@@ -215,7 +215,7 @@ def _plot(path, spec, t, b, info) -> None:
         periods = [ln.period_h for ln in shown]
         ax_s.set_xlim(0.7 * min(periods), 1.4 * max(periods))
     fig.tight_layout(rect=(0, 0.03, 1, 1))
-    save_figure(fig, path, formats=(Path(path).suffix.lstrip(".").lower() or "png",))
+    save_figure(fig, path)  # PNG and vector PDF
 
 
 def run(args) -> int:

@@ -235,7 +235,7 @@ def _plot(path, args, scenario, track, induced, diff, summary):
     ax_alt.set_ylabel("altitude (km)")
     ax_alt.set_xlabel(f"time from closest approach (min); closest approach at t = {t_ca / SECONDS_PER_HOUR:.6g} h")
     fig.tight_layout(rect=(0, 0.04, 1, 1))
-    save_figure(fig, path, formats=(Path(path).suffix.lstrip(".").lower() or "png",))
+    save_figure(fig, path)  # PNG and vector PDF
 
 
 def run(args) -> int:
