@@ -146,7 +146,6 @@ def run_mcmc(
             stacklevel=2,
         )
     chain_u = sampler.get_chain(discard=burn, thin=thin, flat=True)
-    logp = sampler.get_log_prob(discard=burn, thin=thin, flat=True)
     all_u = sampler.get_chain(flat=True)
     all_logp = sampler.get_log_prob(flat=True)
     evaluated = np.isfinite(all_logp)

@@ -41,7 +41,6 @@ from __future__ import annotations
 import math
 import tomllib
 from dataclasses import dataclass, field
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -285,14 +284,9 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
 
 def resolve_data_path(name_or_path) -> Path:
     """An existing file, or the stem of a measurement file bundled with the scenarios (e.g. ``"ilmare_measured"``)."""
-    path = Path(name_or_path)
-    if path.is_file():
-        return path
-    stem = path.name[:-5] if path.name.endswith(".toml") else path.name
-    bundled = {p.name[:-5]: Path(str(p)) for p in resources.files("induct.scenarios").iterdir() if p.name.endswith(".toml")}
-    if stem in bundled and not path.exists():
-        return bundled[stem]
-    raise FileNotFoundError(f"measurement file {str(name_or_path)!r} not found")
+    from .scenario import resolve_bundled
+
+    return resolve_bundled(name_or_path, ".toml", "measurement file")
 
 
 def load_measurements(name_or_path) -> Measurements:

@@ -40,7 +40,15 @@ import numpy as np
 
 from .interior import Ionosphere, InteriorModel, Layer
 
-__all__ = ["Scenario", "load_scenario", "parse_scenario", "bundled_scenarios", "resolve_scenario_path"]
+__all__ = [
+    "Scenario",
+    "load_scenario",
+    "parse_scenario",
+    "bundled_scenarios",
+    "bundled_files",
+    "resolve_bundled",
+    "resolve_scenario_path",
+]
 
 _TOP_KEYS = {"body", "layers", "ionosphere", "drive", "invert", "flyby", "map", "notes"}
 _BODY_KEYS = {"name", "radius_km", "description", "parent", "epoch"}
@@ -177,33 +185,50 @@ def _periods(drive: dict, where: str) -> np.ndarray:
     return np.array(periods, dtype=float)
 
 
-def bundled_scenarios() -> dict[str, Path]:
-    """Scenarios shipped with induct: name (file stem) -> path.
+def bundled_files(suffix: str, keep=None) -> dict[str, Path]:
+    """Files shipped in ``induct.scenarios`` with the given suffix: name (file stem) -> path.
 
-    Only files with a ``[body]`` table count; the folder also holds planet and
-    measurement files.
+    ``keep(path)`` may filter them (for example, scenarios only).
     """
     root = resources.files("induct.scenarios")
     out = {}
     for p in root.iterdir():
-        if p.name.endswith(".toml") and any(line.strip() == "[body]" for line in p.read_text().splitlines()):
-            out[p.name[:-5]] = Path(str(p))
+        if p.name.endswith(suffix) and (keep is None or keep(p)):
+            out[p.name[: -len(suffix)]] = Path(str(p))
     return out
+
+
+def resolve_bundled(name_or_path, suffix: str, what: str, keep=None) -> Path:
+    """An existing file, or the name of a bundled file with that suffix (FileNotFoundError listing them)."""
+    path = Path(name_or_path)
+    if path.is_file():
+        return path
+    bundled = bundled_files(suffix, keep)
+    key = path.name[: -len(suffix)] if path.name.endswith(suffix) else path.name
+    if key in bundled and not path.exists():
+        return bundled[key]
+    raise FileNotFoundError(
+        f"{what} {str(name_or_path)!r} not found: give a file or the name of one of the bundled {what}s "
+        f"({', '.join(sorted(bundled)) or 'none'})"
+    )
+
+
+def _is_scenario(path) -> bool:
+    return any(line.strip() == "[body]" for line in path.read_text().splitlines())
+
+
+def bundled_scenarios() -> dict[str, Path]:
+    """Scenarios shipped with induct: name (file stem) -> path.
+
+    Only files with a ``[body]`` table count; the folder also holds planet,
+    measurement and trajectory files.
+    """
+    return bundled_files(".toml", _is_scenario)
 
 
 def resolve_scenario_path(name_or_path) -> Path:
     """A path to an existing file, or the name of a bundled scenario (e.g. ``"ilmare"``)."""
-    path = Path(name_or_path)
-    if path.is_file():
-        return path
-    bundled = bundled_scenarios()
-    key = path.name[:-5] if path.name.endswith(".toml") else path.name
-    if key in bundled and not path.exists():
-        return bundled[key]
-    raise FileNotFoundError(
-        f"scenario {str(name_or_path)!r} not found: give a TOML file or one of the bundled scenarios "
-        f"({', '.join(sorted(bundled))})"
-    )
+    return resolve_bundled(name_or_path, ".toml", "scenario", _is_scenario)
 
 
 def load_scenario(name_or_path) -> Scenario:

@@ -33,7 +33,6 @@ from __future__ import annotations
 
 import csv
 from dataclasses import dataclass, field
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -123,16 +122,9 @@ def from_flow_frame(vectors, frame: str) -> np.ndarray:
 
 def resolve_track_path(name_or_path) -> Path:
     """An existing file, or the stem of a track bundled with the scenarios (e.g. ``"ilmare_flyby"``)."""
-    path = Path(name_or_path)
-    if path.is_file():
-        return path
-    stem = path.name[:-4] if path.name.endswith(".csv") else path.name
-    bundled = {p.name[:-4]: Path(str(p)) for p in resources.files("induct.scenarios").iterdir() if p.name.endswith(".csv")}
-    if stem in bundled and not path.exists():
-        return bundled[stem]
-    raise FileNotFoundError(
-        f"trajectory file {str(name_or_path)!r} not found (bundled tracks: {', '.join(sorted(bundled)) or 'none'})"
-    )
+    from .scenario import resolve_bundled
+
+    return resolve_bundled(name_or_path, ".csv", "trajectory file")
 
 
 def _read_rows(path: Path):

@@ -114,7 +114,7 @@ def test_bad_scenarios_exit_2_with_clear_message(tmp_path, capsys, patch, match)
 
 def test_missing_scenario(capsys):
     assert main(["respond", "no-such-scenario"]) == 2
-    assert "bundled scenarios" in capsys.readouterr().err
+    assert "bundled scenarios (brenna, ilmare" in capsys.readouterr().err
 
 
 def test_bad_cli_period(tmp_path, capsys):
