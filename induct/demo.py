@@ -66,8 +66,20 @@ def _run(argv: list) -> str:
     return out.getvalue()
 
 
+def _netcdf_options() -> list:
+    """``[]`` when xarray and h5netcdf are importable, else ``["--no-netcdf"]`` (maps then skip the .nc file)."""
+    try:
+        from .map_output import require_netcdf
+
+        require_netcdf()
+        return []
+    except ImportError:
+        return ["--no-netcdf"]
+
+
 def _steps(out: Path, fast: bool) -> list[DemoStep]:
     n_map = 40 if fast else 120
+    netcdf = _netcdf_options()
     n_grid = 24 if fast else 60
     steps = [
         DemoStep("Forward response of Ilmare", ["respond", "ilmare"]),
@@ -90,14 +102,14 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
             "Feasibility map: amplitude at the synodic period, with the measurements",
             ["map", "ilmare", "--x", f"ice shell.thickness_km=2:60:{n_map}", "--y",
              f"ocean.conductivity_S_per_m=0.1:30:{n_map}:log", "--period-h", 12.12, "--quantity", "amplitude",
-             "--data", "ilmare_measured", "--out", out / "map_amplitude"],
+             "--data", "ilmare_measured", "--out", out / "map_amplitude", *netcdf],
         ),
         DemoStep(
             "Feasibility map: induced-field difference from the thick-shell interior",
             ["map", "ilmare", "--x", f"ice shell.thickness_km=2:60:{n_map}", "--y",
              f"ocean.conductivity_S_per_m=0.1:30:{n_map}:log", "--period-h", 12.12, "--quantity", "difference_nT",
              "--reference", "ilmare_thick", "--altitude-km", 100, "--drive-nT", DEMO_DRIVE_NT,
-             "--noise-nT", DEMO_NOISE_NT, "--out", out / "map_difference"],
+             "--noise-nT", DEMO_NOISE_NT, "--out", out / "map_difference", *netcdf],
         ),
         DemoStep(
             "Amplitude-phase diagram with the measurements",
