@@ -25,13 +25,14 @@ def cf_name(parameter: str) -> str:
 
 
 def require_netcdf():
-    """Import xarray and h5netcdf, or raise ImportError saying how to install them."""
+    """Import xarray and h5netcdf (with its h5py backend), or raise ImportError saying how to install them."""
     try:
         import h5netcdf  # noqa: F401
+        import h5py  # noqa: F401  (h5netcdf's file backend; not a hard dependency of recent h5netcdf)
         import xarray as xr
     except ImportError as exc:
         raise ImportError(
-            f"writing NetCDF needs the optional packages xarray and h5netcdf ({exc}); "
+            f"writing NetCDF needs the packages xarray, h5netcdf and h5py ({exc}); "
             "install them with: pip install 'induct[netcdf]'"
         ) from None
     return xr, h5netcdf
