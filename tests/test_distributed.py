@@ -32,7 +32,7 @@ import numpy as np
 import pytest
 
 import induct
-from induct.bench import bench_misfit_task, combine_misfit, misfit_difference
+from induct.bench_cluster import bench_misfit_task, combine_misfit, misfit_difference
 from induct.distributed import (
     INSTALL_HINT,
     WORKER_ENVIRON,

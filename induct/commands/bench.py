@@ -92,7 +92,7 @@ def _run_inversion(args) -> int:
 
 def _run_dask(args) -> int:
     """``--dask-workers N``: one process against a local Dask cluster on the same grid-misfit reduction."""
-    from ..bench import run_distributed_benchmark
+    from ..bench_cluster import run_distributed_benchmark
 
     if args.dask_workers < 1:
         raise ValueError(f"--dask-workers must be >= 1, got {args.dask_workers}")
