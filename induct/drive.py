@@ -544,12 +544,10 @@ def read_planet_file(path) -> PlanetSystem:
     -------
     PlanetSystem
     """
+    from .scenario import read_toml
+
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except tomllib.TOMLDecodeError as exc:
-        raise ValueError(f"{path}: not valid TOML ({exc})") from None
-    return parse_planet_table(data, str(path))
+    return parse_planet_table(read_toml(path), str(path))
 
 
 def planet_drive_spectrum(

@@ -39,7 +39,6 @@ parts). Each entry contributes two data.
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -301,10 +300,7 @@ def load_measurements(name_or_path) -> Measurements:
     -------
     Measurements
     """
+    from .scenario import read_toml
+
     path = resolve_data_path(name_or_path)
-    with open(path, "rb") as fh:
-        try:
-            doc = tomllib.load(fh)
-        except tomllib.TOMLDecodeError as exc:
-            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
-    return parse_measurements(doc, source=path.name)
+    return parse_measurements(read_toml(path), source=path.name)

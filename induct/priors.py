@@ -29,7 +29,6 @@ use ``induct.brine.freezing_point(solute, salinity_g_per_kg, pressure_MPa)``.
 from __future__ import annotations
 
 import math
-import tomllib
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
@@ -120,11 +119,9 @@ def load_parameter_table(path) -> dict:
     path = Path(path)
     if not path.is_file():
         raise FileNotFoundError(f"parameter file {str(path)!r} not found")
-    with open(path, "rb") as fh:
-        try:
-            doc = tomllib.load(fh)
-        except tomllib.TOMLDecodeError as exc:
-            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
+    from .scenario import read_toml
+
+    doc = read_toml(path)
     return doc.get("invert", doc)
 
 

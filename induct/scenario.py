@@ -48,6 +48,7 @@ __all__ = [
     "bundled_files",
     "resolve_bundled",
     "resolve_scenario_path",
+    "read_toml",
 ]
 
 _TOP_KEYS = {"body", "layers", "ionosphere", "drive", "invert", "flyby", "map", "notes"}
@@ -231,6 +232,16 @@ def resolve_scenario_path(name_or_path) -> Path:
     return resolve_bundled(name_or_path, ".toml", "scenario", _is_scenario)
 
 
+def read_toml(path) -> dict:
+    """Parse a TOML file; a syntax error becomes a ValueError naming the file."""
+    path = Path(path)
+    with open(path, "rb") as fh:
+        try:
+            return tomllib.load(fh)
+        except tomllib.TOMLDecodeError as exc:
+            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
+
+
 def load_scenario(name_or_path) -> Scenario:
     """Read and check a scenario file (or a bundled scenario by name).
 
@@ -244,9 +255,4 @@ def load_scenario(name_or_path) -> Scenario:
     Scenario
     """
     path = resolve_scenario_path(name_or_path)
-    with open(path, "rb") as fh:
-        try:
-            doc = tomllib.load(fh)
-        except tomllib.TOMLDecodeError as exc:
-            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
-    return parse_scenario(doc, path)
+    return parse_scenario(read_toml(path), path)
