@@ -42,6 +42,18 @@ def register(subparsers):
     return p
 
 
+def _printed_json(args, res) -> bool:
+    """With ``--json``, print the result's fields as JSON and say so."""
+    if args.json:
+        print(json.dumps(res.__dict__, indent=2))
+    return bool(args.json)
+
+
+def _header(what: str, rest: str) -> str:
+    """First line of every benchmark report: the option, the machine and how it ran."""
+    return f"induct bench{what} on {platform.machine()} ({os.cpu_count()} cores){rest}"
+
+
 def run(args) -> int:
     if getattr(args, "flyby", False):
         return _run_flyby(args)
@@ -57,10 +69,9 @@ def run(args) -> int:
         if getattr(args, name) < 1:
             raise ValueError(f"--{name.replace('_', '-')} must be >= 1")
     res = run_kernel_benchmark(args.model_periods, args.baseline_model_periods, args.repeat)
-    if args.json:
-        print(json.dumps(res.__dict__, indent=2))
+    if _printed_json(args, res):
         return 0
-    print(f"induct bench on {platform.machine()} ({os.cpu_count()} cores), numpy kernel, one process")
+    print(_header("", ", numpy kernel, one process"))
     print("4-layer degree-1 models (ice / ocean / mantle / iron core), periods 1-1000 h")
     print(f"  kernel:   {res.model_periods:>10,d} model-periods in {res.seconds:8.3f} s  -> {res.throughput:12,.0f} model-periods/s")
     print(f"  peak working memory of one call over all model-periods: {res.peak_memory_mb:.1f} MB (chunked)")
@@ -78,11 +89,10 @@ def _run_inversion(args) -> int:
     if args.inversion_grid < 2:
         raise ValueError(f"--inversion-grid must be >= 2 points per axis, got {args.inversion_grid}")
     res = run_inversion_benchmark(args.inversion_grid, progress=not args.json)
-    if args.json:
-        print(json.dumps(res.__dict__, indent=2))
+    if _printed_json(args, res):
         return 0
     n = res.grid_points
-    print(f"induct bench --inversion on {platform.machine()} ({os.cpu_count()} cores), numpy kernel, one process")
+    print(_header(" --inversion", ", numpy kernel, one process"))
     print(f"  grid inversion of Ilmare: {res.parameters} parameters, {n} x {n} x {n} grid, {res.periods} periods")
     print(f"  {res.model_periods:,d} model-periods in {res.seconds:.2f} s -> {res.throughput:,.0f} model-periods/s (one run, wall clock)")
     print(f"  peak memory: {res.peak_rss_mb:.0f} MB resident (process peak, ru_maxrss), {res.rss_increase_mb:.0f} MB above the resident size before the run")
@@ -99,10 +109,9 @@ def _run_dask(args) -> int:
     if args.dask_model_periods < 1:
         raise ValueError(f"--dask-model-periods must be >= 1, got {args.dask_model_periods}")
     res = run_distributed_benchmark(args.dask_model_periods, args.dask_workers)
-    if args.json:
-        print(json.dumps(res.__dict__, indent=2))
+    if _printed_json(args, res):
         return 0
-    print(f"induct bench on {platform.machine()} ({os.cpu_count()} cores): grid misfit (min chi-square, histograms)")
+    print(_header("", ": grid misfit (min chi-square, histograms)"))
     print(f"  {res.models:,d} models x {res.model_periods // res.models} periods in {res.tasks} tasks of {res.chunk_models:,d} models")
     print(f"  one process:      {res.single_seconds:8.2f} s  -> {res.single_throughput:12,.0f} model-periods/s")
     print(
@@ -128,10 +137,9 @@ def _run_map(args) -> int:
     if args.map_size < 2 or args.repeat < 1:
         raise ValueError(f"--map-size must be >= 2 and --repeat >= 1, got {args.map_size} and {args.repeat}")
     res = run_map_benchmark(args.map_size, args.repeat)
-    if args.json:
-        print(json.dumps(res.__dict__, indent=2))
+    if _printed_json(args, res):
         return 0
-    print(f"induct bench --map on {platform.machine()} ({os.cpu_count()} cores), numpy kernel, one process")
+    print(_header(" --map", ", numpy kernel, one process"))
     print(f"  Ilmare: ice shell thickness x ocean conductivity, {res.nx} x {res.ny} = {res.cells:,d} cells, {res.quantity} at {res.period_h:g} h")
     print(f"  map computation: {res.seconds:.3f} s (best of {args.repeat}; first call {res.first_seconds:.3f} s) -> {res.cells_per_second:,.0f} cells/s")
     print(f"  writing PNG, PDF, CSV and NetCDF once: {res.output_seconds:.2f} s")
@@ -145,10 +153,9 @@ def _run_flyby(args) -> int:
     if args.flyby_points < 1 or args.repeat < 1:
         raise ValueError(f"--flyby-points and --repeat must be >= 1, got {args.flyby_points} and {args.repeat}")
     res = run_flyby_benchmark(args.flyby_points, args.repeat)
-    if args.json:
-        print(json.dumps(res.__dict__, indent=2))
+    if _printed_json(args, res):
         return 0
-    print(f"induct bench --flyby on {platform.machine()} ({os.cpu_count()} cores), numpy, one process")
+    print(_header(" --flyby", ", numpy, one process"))
     print(f"  Ilmare: induced field at {res.points:,d} trajectory points x {res.periods} periods")
     print(f"  checked induced_field: {res.seconds:.3f} s (best of {args.repeat}) -> {res.points_per_second:,.0f} points/s")
     print(f"  unchecked kernel induced_field_nT: {res.kernel_seconds:.3f} s")
