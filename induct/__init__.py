@@ -10,8 +10,10 @@ The model is quasi-static induction in a spherically symmetric body; plasma
 interaction, asymmetric shells and motional induction are not included.
 """
 
-from .interior import Ionosphere, InteriorModel, Layer
-from .response import (
+__version__ = "0.1.0"
+
+from induct.model.interior import Ionosphere, InteriorModel, Layer
+from induct.model.response import (
     amplitude,
     c_response_km,
     conductance_S,
@@ -21,9 +23,8 @@ from .response import (
     skin_depth_m,
     transfer,
 )
-from .scenario import load_scenario
+from induct.io.scenario import load_scenario
 
-__version__ = "0.1.0"
 
 __all__ = [
     "transfer",

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from induct.kernel import layered_response
+from induct.model.kernel import layered_response
 
 
 def _response(radii_m, conductivity_S_per_m, period_s, degree=1):
@@ -11,7 +11,7 @@ def _response(radii_m, conductivity_S_per_m, period_s, degree=1):
 
     The one place where the kernel tests reach the code under test. To test the checked API
     instead, return ``induct.transfer(radii_m, conductivity_S_per_m, period_s, degree)``; note
-    that it rejects the five zero-thickness corner models of tests/data/kernel_reference.json
+    that it rejects the five zero-thickness corner models of tests/model/data/kernel_reference.json
     (it requires strictly increasing radii; the kernel allows equal ones).
     """
     omega = 2.0 * np.pi / np.asarray(period_s, dtype=float)

@@ -63,7 +63,8 @@ def fit_freezing():
 def fit_walden_exponent():
     from scipy.optimize import minimize_scalar
 
-    from induct.brine import seawater, water
+    from induct.brine import seawater
+    from induct.brine import water
 
     sp = np.linspace(2.0, 42.0, 21)[:, None]
     p_pa = np.linspace(0.0, 100.0, 11)[None, :] * 1e6 + water.P_ATM_PA

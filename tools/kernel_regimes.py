@@ -12,7 +12,7 @@ Run: ``python tools/kernel_regimes.py``  (about 20 s)
 import mpmath as mp
 import numpy as np
 
-from induct import kernel
+from induct.model import kernel
 
 mp.mp.dps = 50
 

@@ -1,8 +1,8 @@
-"""Generate tests/data/kernel_reference.json: high-precision reference responses of layered spheres.
+"""Generate tests/model/data/kernel_reference.json: high-precision reference responses of layered spheres.
 
-A fixed-seed sweep over the whole domain of ``induct.kernel.layered_response`` plus deliberately
+A fixed-seed sweep over the whole domain of ``induct.model.kernel.layered_response`` plus deliberately
 placed extreme corners, each evaluated with the independent mpmath reference of
-``tests/reference_mpmath.py`` (unscaled Bessel functions, transfer of coefficients across every
+``tests/model/reference_mpmath.py`` (unscaled Bessel functions, transfer of coefficients across every
 layer, adaptive working precision until two precisions agree to 30 significant digits).
 
 Domain of the random sweep: reference radius 1 km to 1e5 km (log-uniform); 1 to 100 layers (half
@@ -40,11 +40,11 @@ import mpmath as mp
 import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
-sys.path.insert(0, str(ROOT / "tests"))
+sys.path.insert(0, str(ROOT / "tests" / "model"))
 
 from reference_mpmath import input_sensitivity, response_adaptive, response_mp  # noqa: E402
 
-OUTPUT = ROOT / "tests" / "data" / "kernel_reference.json"
+OUTPUT = ROOT / "tests" / "model" / "data" / "kernel_reference.json"
 SEED = 20240611
 N_RANDOM_MODELS = 900
 DIGITS_AGREED = 30
@@ -237,10 +237,10 @@ def main(argv: list[str] | None = None) -> int:
     elapsed = time.time() - t0
     data = dict(
         description=("Reference R_n (exp(+i w t), R_n = 1 for a perfect conductor filling the reference sphere) "
-                     "of layered spheres for induct.kernel.layered_response; radii_m are outer radii from the "
+                     "of layered spheres for induct.model.kernel.layered_response; radii_m are outer radii from the "
                      "centre outward, the last being the reference radius; omega = 2 pi / period_s."),
         generator="tools/make_kernel_reference.py",
-        reference="tests/reference_mpmath.py (unscaled mpmath Bessel functions, transfer of coefficients)",
+        reference="tests/model/reference_mpmath.py (unscaled mpmath Bessel functions, transfer of coefficients)",
         seed=SEED,
         mpmath_version=mp.__version__,
         numpy_version=np.__version__,

@@ -21,7 +21,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from induct.scenario import load_scenario  # noqa: E402
+from induct.io.scenario import load_scenario  # noqa: E402
 
 SEED = 20261204
 AMPLITUDE_SIGMA = 0.01

@@ -20,8 +20,8 @@ limits (saturation), flags, api. Validity ranges: see each docstring and
 docs/brine.md.
 """
 
-from .api import SOLUTES, conductivity, freezing_point, ocean_conductivity_profile
-from .flags import ExtrapolationFlag, ExtrapolationWarning, describe_flags
+from induct.brine.api import SOLUTES, conductivity, freezing_point, ocean_conductivity_profile
+from induct.brine.flags import ExtrapolationFlag, ExtrapolationWarning, describe_flags
 
 __all__ = [
     "SOLUTES",

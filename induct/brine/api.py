@@ -11,8 +11,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import extrapolation, freezing, limits, solutions
-from .flags import ExtrapolationFlag, warn_if_flagged
+from induct.brine import extrapolation
+from induct.brine import freezing
+from induct.brine import limits
+from induct.brine import solutions
+from induct.brine.flags import ExtrapolationFlag, warn_if_flagged
 
 #: Supported solutes. "seawater": Practical Salinity (PSS-78); others: g solute / kg solution.
 SOLUTES = ("seawater", "NaCl", "MgSO4", "KCl")

@@ -33,9 +33,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import seawater, solutions, water
-from .flags import ExtrapolationFlag
-from .freezing import SA_PER_SP, T0_K
+from induct.brine import seawater
+from induct.brine import solutions
+from induct.brine import water
+from induct.brine.flags import ExtrapolationFlag
+from induct.brine.freezing import SA_PER_SP, T0_K
 
 SP_LIMIT = 100.0
 T_LIMITS_C = (-40.0, 40.0)

@@ -40,7 +40,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import water
+from induct.brine import water
 
 P_ATM_MPA = water.P_ATM_PA * 1e-6
 T0_K = 273.15

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import freezing
+from induct.brine import freezing
 
 #: Hard temperature limits (degC) of the conductivity models (freezing point still applies).
 T_MAX_SOLUTIONS_C = 60.0

@@ -40,8 +40,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import water
-from .freezing import MOLAR_MASS, T0_K
+from induct.brine import water
+from induct.brine.freezing import MOLAR_MASS, T0_K
 
 # McCleskey et al. (2012) Table 1: a, b, c, p, q, r, B
 _ION = {

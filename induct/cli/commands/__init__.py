@@ -1,0 +1,1 @@
+"""Sub-commands of the ``induct`` command line; see :mod:`induct.cli.main`."""

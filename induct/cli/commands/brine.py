@@ -1,0 +1,164 @@
+"""``induct brine``: conductivity and freezing point of seawater or a single-salt brine.
+
+Examples::
+
+    induct brine --solute seawater --salinity 35 --temperature 0 --pressure 50
+    induct brine --solute MgSO4 --salinity 0:200:11 --temperature 0 --csv table.csv
+    induct brine --solute seawater --salinity 35 --pressure 0:300:7 --json
+
+Each of --salinity, --temperature, --pressure takes a value or a range
+``lo:hi:n`` (n evenly spaced values, ends included); ranges give a table over
+all combinations. A range starting with a minus sign needs the ``=`` form
+(``--temperature=-4:0:5``), since argparse would read it as an option. Without --temperature the conductivity is evaluated at the
+freezing point. Extrapolated rows are marked ``*`` and their flags listed.
+A single point that is invalid (frozen, above saturation, ...) is an error
+(exit 2); in a table, invalid rows are shown with the reason and the command
+exits 2 only if no row is valid.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime
+import itertools
+import json
+
+import numpy as np
+
+from induct import __version__
+from induct.brine import SOLUTES, conductivity, describe_flags, freezing_point
+
+_UNITS = {
+    "salinity": "Practical Salinity (PSS-78) for seawater, g/kg of solution otherwise",
+    "temperature_C": "degC (ITS-90)",
+    "pressure_MPa": "MPa (sea pressure)",
+    "conductivity_S_per_m": "S/m",
+    "freezing_point_C": "degC (ITS-90)",
+}
+
+
+def register(subparsers):
+    """Add the ``brine`` sub-parser and return it."""
+    p = subparsers.add_parser(
+        "brine",
+        help="ocean/brine conductivity (S/m) and freezing point",
+        description="Electrical conductivity and freezing point of seawater (PSS-78/TEOS-10) or "
+                    "NaCl/KCl/MgSO4 brines, with extrapolation flags.",
+    )
+    p.add_argument("--solute", required=True, help=f"one of {', '.join(SOLUTES)}")
+    p.add_argument("--salinity", required=True,
+                   help="salinity (seawater: Practical Salinity; others: g/kg), value or lo:hi:n")
+    p.add_argument("--temperature", default=None,
+                   help="temperature in degC, value or lo:hi:n (default: the freezing point); "
+                        "write negative ranges as --temperature=-4:0:5")
+    p.add_argument("--pressure", default="0", help="sea pressure in MPa, value or lo:hi:n (default 0)")
+    p.add_argument("--csv", metavar="FILE", default=None, help="also write the table to FILE (CSV)")
+    p.add_argument("--json", action="store_true", help="print JSON (values, units, flags) instead of a table")
+    return p
+
+
+def _parse_values(text, name):
+    """Parse ``value`` or ``lo:hi:n`` into a 1-D float array."""
+    parts = str(text).split(":")
+    try:
+        if len(parts) == 1:
+            return np.array([float(parts[0])])
+        if len(parts) == 3:
+            lo, hi, n = float(parts[0]), float(parts[1]), int(parts[2])
+            if n < 1:
+                raise ValueError
+            return np.linspace(lo, hi, n)
+    except ValueError:
+        pass
+    raise ValueError(f"--{name} must be a number or lo:hi:n (n >= 1 integer); got {text!r}")
+
+
+def _evaluate(solute, s, t, p):
+    """One row: dict with values, flags and validity."""
+    row = {"salinity": float(s), "temperature_C": None if t is None else float(t),
+           "pressure_MPa": float(p)}
+    try:
+        tf, fflags = freezing_point(solute, s, p, return_flags=True, warn=False)
+        row["freezing_point_C"] = float(tf)
+    except ValueError:
+        tf, fflags = None, 0
+        row["freezing_point_C"] = None
+    try:
+        if t is None:
+            if tf is None:
+                raise ValueError("no --temperature given and no freezing point defined at this "
+                                 "salinity (above the eutectic); give --temperature")
+            t = float(tf)
+            row["temperature_C"] = t
+        k, flags = conductivity(solute, s, t, p, return_flags=True, warn=False)
+        flags = int(flags) | int(fflags)
+        row.update(conductivity_S_per_m=float(k), flags=describe_flags(flags),
+                   extrapolated=bool(flags), valid=True, error=None)
+    except ValueError as exc:
+        row.update(conductivity_S_per_m=None, flags=[], extrapolated=False, valid=False,
+                   error=str(exc))
+    return row
+
+
+def _fmt(v, spec):
+    return "-" if v is None else format(v, spec)
+
+
+def _print_table(solute, rows):
+    s_unit = "SP" if solute == "seawater" else "g/kg"
+    head = (f"{'':1} {'salinity [' + s_unit + ']':>16} {'T [degC]':>10} {'p [MPa]':>9} "
+            f"{'sigma [S/m]':>12} {'T_freeze [degC]':>16}  flags")
+    print(f"induct brine: solute {solute}")
+    print(head)
+    for r in rows:
+        mark = "*" if r["extrapolated"] else ("!" if not r["valid"] else " ")
+        note = ",".join(r["flags"]) if r["valid"] else f"INVALID: {r['error']}"
+        print(f"{mark:1} {r['salinity']:16.6g} {_fmt(r['temperature_C'], '10.4f')} "
+              f"{r['pressure_MPa']:9.4g} {_fmt(r['conductivity_S_per_m'], '12.6g')} "
+              f"{_fmt(r['freezing_point_C'], '16.4f')}  {note}")
+    if any(r["extrapolated"] for r in rows):
+        print("* extrapolated beyond the reference model (COLD/WARM: Walden scaling in temperature; "
+              "DEEP: above 100 MPa; SALTY: SP above 42) -- see docs/brine.md")
+
+
+def _write_csv(path, solute, rows):
+    with open(path, "w", newline="") as fh:
+        fh.write(f"# induct {__version__} brine; solute={solute}; "
+                 f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
+                 f"rows={len(rows)}\n")
+        fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _UNITS.items()) + "\n")
+        w = csv.writer(fh)
+        w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
+                    "freezing_point_C", "extrapolated", "flags", "error"])
+        for r in rows:
+            w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
+                        "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
+                        "" if r["freezing_point_C"] is None else r["freezing_point_C"],
+                        int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
+
+
+def run(args):
+    """Execute ``induct brine``; returns the exit code."""
+    sal = _parse_values(args.salinity, "salinity")
+    temps = [None] if args.temperature is None else list(_parse_values(args.temperature, "temperature"))
+    pres = _parse_values(args.pressure, "pressure")
+    # solute check (and canonical spelling) via the API's own validation
+    solute = next((s for s in SOLUTES if s.lower() == str(args.solute).lower()), None)
+    if solute is None:
+        raise ValueError(f"--solute must be one of {', '.join(SOLUTES)}; got {args.solute!r}")
+    combos = list(itertools.product(sal, temps, pres))
+    if len(combos) == 1:
+        s, t, p = combos[0]
+        row = _evaluate(solute, s, t, p)
+        if not row["valid"]:
+            raise ValueError(row["error"])
+        rows = [row]
+    else:
+        rows = [_evaluate(solute, s, t, p) for s, t, p in combos]
+    if args.csv:
+        _write_csv(args.csv, solute, rows)
+    if args.json:
+        print(json.dumps({"solute": solute, "units": _UNITS, "rows": rows}, indent=2))
+    else:
+        _print_table(solute, rows)
+    return 0 if any(r["valid"] for r in rows) else 2

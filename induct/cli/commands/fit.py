@@ -1,0 +1,143 @@
+"""``induct fit``: the complex induction response at each driving period from flyby residuals.
+
+Examples::
+
+    induct fit ilmare --data residuals.csv --noise-nT 0.5
+    induct fit ilmare --data pass1.csv pass2.csv --noise-nT 0.5 --json --toml fitted.toml
+    induct invert ilmare --data fitted.toml
+
+RESIDUALS.csv holds t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT: the measured field
+minus the primary field, moon-centred, in the frame of the scenario's driving
+lines (flow frame; or --frame body). Linear least squares for Re and Im of
+R_1 at every [[drive.lines]] period, with the full covariance.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from pathlib import Path
+
+import numpy as np
+
+from induct import __version__
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    from induct.flyby.magfit import DEFAULT_MAX_CONDITION, DEFAULT_MAX_CORRELATION, DEFAULT_MAX_SIGMA
+
+    p = subparsers.add_parser(
+        "fit",
+        help="fit the complex response at each driving period to flyby magnetometer residuals",
+        description=__doc__.split("\n\n")[0] + ". Only the degree-1 induced field of a spherically symmetric "
+        "body is fitted; plasma-interaction fields in the residuals bias the result.",
+    )
+    p.add_argument("scenario", help="scenario with [[drive.lines]] (file or bundled name); its radius and lines are used")
+    p.add_argument("--data", required=True, nargs="+", metavar="RESIDUALS.csv",
+                   help="one or more residual files t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT")
+    p.add_argument("--noise-nt", "--noise-nT", dest="noise_nt", type=float, required=True, metavar="N",
+                   help="1-sigma noise of each field component (nT)")
+    p.add_argument("--frame", metavar="FRAME", help="frame of the files: flow (default) or body")
+    p.add_argument("--json", action="store_true", help="print the result as JSON")
+    p.add_argument("--toml", metavar="FILE", help="write the determined responses as a measurement file for induct invert")
+    p.add_argument("--include-undetermined", action="store_true",
+                   help="with --toml: also write periods that the flybys do not determine (not advised)")
+    p.add_argument("--max-condition", type=float, default=DEFAULT_MAX_CONDITION,
+                   help=f"largest condition number of the column-scaled design matrix (default {DEFAULT_MAX_CONDITION:g})")
+    p.add_argument("--max-sigma", type=float, default=DEFAULT_MAX_SIGMA,
+                   help=f"largest 1-sigma half-axis of a period's (Re, Im) error ellipse (default {DEFAULT_MAX_SIGMA:g})")
+    p.add_argument("--max-correlation", type=float, default=DEFAULT_MAX_CORRELATION,
+                   help=f"report period pairs correlated above this (default {DEFAULT_MAX_CORRELATION:g})")
+    return p
+
+
+def _read(args, model):
+    from induct.io.tracks import RESIDUAL_COLUMNS, check_outside, read_track
+
+    pos, t, b, sources, frames = [], [], [], [], []
+    for name in args.data:
+        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=args.frame)
+        check_outside(track, model.radius_km, f"the body (radius {model.radius_km:g} km)")
+        if model.ionosphere is not None:
+            check_outside(track, model.radius_km + model.ionosphere.altitude_km,
+                          f"the ionosphere sheet (altitude {model.ionosphere.altitude_km:g} km)")
+        pos.append(track.positions_km)
+        t.append(track.times_s)
+        b.append(track.vectors_to_flow(RESIDUAL_COLUMNS[4:]))
+        sources.append(track.source)
+        frames.append(track.frame)
+    return np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames
+
+
+def _g(value) -> str:
+    return "n/a" if value is None else f"{value:.2g}"
+
+
+def run(args) -> int:
+    from induct.flyby.magfit import fit_responses
+    from induct.io.measurements import load_measurements
+    from induct.io.scenario import load_scenario
+
+    if not (math.isfinite(args.noise_nt) and args.noise_nt > 0):
+        raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
+    if args.include_undetermined and not args.toml:
+        raise ValueError("--include-undetermined needs --toml")
+    scenario = load_scenario(args.scenario)
+    lines = scenario.drive_lines
+    if not lines:
+        raise ValueError(
+            f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
+            "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
+        )
+    pos, t, b, sources, frames = _read(args, scenario.model)
+    fit = fit_responses(lines, scenario.model.radius_km, pos, t, b, args.noise_nt, max_condition=args.max_condition,
+                        max_sigma=args.max_sigma, max_correlation=args.max_correlation)
+    result = fit.to_dict()
+    result.update({
+        "induct_version": __version__,
+        "scenario": scenario.name,
+        "data": sources,
+        "convention": "R_1 = real + i imag = amplitude exp(i phase_lag), exp(+i w t); cov of (real, imag)",
+        "frames": frames,
+        "model": "degree-1 induced field of a spherically symmetric body driven by the scenario's [[drive.lines]]",
+    })
+    if args.toml:
+        text = fit.measurement_toml(
+            comments=[
+                f"Responses fitted by induct {__version__} fit from flyby residuals ({', '.join(sources)}), "
+                f"scenario {scenario.name}, noise {args.noise_nt:g} nT.",
+                "Use: induct invert SCENARIO --data THIS_FILE",
+            ],
+            source={"tool": "induct fit", "scenario": scenario.name, "data": ", ".join(sources),
+                    "noise_nT": float(args.noise_nt), "condition_number": float(fit.condition_number)
+                    if math.isfinite(fit.condition_number) else "inf", "chi2": float(fit.chi2), "n_data": fit.n_data},
+            include_undetermined=args.include_undetermined,
+        )
+        Path(args.toml).write_text(text, encoding="utf-8")
+        back = load_measurements(args.toml)  # what invert will read
+        result["toml"] = {"file": args.toml, "entries": back.n_entries}
+    if args.json:
+        json.dump(result, sys.stdout, indent=2)
+        print()
+        return 0
+    print(f"{scenario.name}: response fit to {fit.n_data // 3} points ({fit.n_data} data) from {', '.join(sources)}")
+    print(f"noise {args.noise_nt:g} nT; chi2 = {fit.chi2:.6g} for {fit.dof} degrees of freedom "
+          f"(per dof {fit.chi2 / fit.dof:.3f}); condition number {fit.condition_number:.3g}")
+    head = (f"{'line':<14} {'period_h':>10} {'amplitude':>16} {'phase_lag_deg':>16} {'real':>9} {'imag':>9} "
+            f"{'sigma_max':>9}  determined")
+    print(head)
+    print("-" * len(head))
+    for p in result["response"]:
+        print(f"{p['label']:<14} {p['period_h']:>10.5f} {p['amplitude']:>8.4f} +-{_g(p['amplitude_sigma']):<6} "
+              f"{p['phase_lag_deg']:>8.2f} +-{_g(p['phase_lag_sigma_deg']):<6} {p['real']:>9.4f} {p['imag']:>9.4f} "
+              f"{p['sigma_max']:>9.3g}  {'yes' if p['determined'] else 'NO'}")
+    th = fit.thresholds
+    print(f"thresholds: condition number <= {th['max_condition']:g}, sigma_max <= {th['max_sigma']:g}, "
+          f"cross-period correlation <= {th['max_correlation']:g}")
+    for note in fit.notes:
+        print(f"note: {note}")
+    if args.toml:
+        print(f"{result['toml']['entries']} response(s) written to {args.toml} (read back with induct.io.measurements)")
+    return 0

@@ -1,0 +1,165 @@
+"""``induct invert SCENARIO --data MEASUREMENTS.toml``: ranges of the free parameters that fit the data."""
+
+from __future__ import annotations
+
+import json
+
+from induct.inversion.posterior import NOT_MODELLED
+from induct.cli.tables import Column, format_table
+from induct.inversion.grid import GRID_TASK_MODELS
+from induct.cli.commands._cluster import add_cluster_options, backend_for
+
+
+def register(subparsers):
+    p = subparsers.add_parser(
+        "invert",
+        help="invert measured responses into the ranges of ice thickness, ocean thickness, conductivity, ... that fit",
+        description=(
+            "Posterior ranges of the free parameters of a scenario (its [invert] table, or --params FILE) given "
+            "measured responses (--data FILE, TOML). Uniform or log-uniform priors, Gaussian likelihood; exact "
+            "evaluation on a grid for up to 4 parameters, an emcee ensemble sampler above (or with --sampler mcmc)."
+        ),
+    )
+    p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
+    p.add_argument("--data", required=True, metavar="FILE",
+                   help="measurement file (TOML, [[response]] tables), or a bundled one (e.g. ilmare_measured)")
+    p.add_argument("--params", metavar="FILE", help="free parameters and prior ranges (TOML [invert] table); overrides the scenario's")
+    p.add_argument("--grid", type=int, metavar="N", help="grid points per axis (>= 2; default 60); with --sampler mcmc: histogram bins of the maps")
+    p.add_argument("--sampler", choices=("auto", "grid", "mcmc"), default="auto",
+                   help="grid (exact) or mcmc (emcee); auto: grid for up to 4 parameters (default)")
+    p.add_argument("--steps", type=int, help="MCMC steps per walker (default 4000)")
+    p.add_argument("--walkers", type=int, help="MCMC walkers (default max(32, 4 x parameters))")
+    p.add_argument("--seed", type=int, default=0, help="MCMC random seed (default 0)")
+    p.add_argument("--list", type=int, default=10, metavar="N", help="2-sigma combinations to print (default 10)")
+    p.add_argument("--plot", metavar="FILE", help="write the corner figure to FILE (.png and .pdf)")
+    p.add_argument("--json", action="store_true", help="print the result as JSON")
+    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    add_cluster_options(p, GRID_TASK_MODELS)
+    return p
+
+
+def run(args) -> int:
+    from induct.inversion.grid import DEFAULT_LIST_CAP, invert
+    from induct.io.measurements import load_measurements
+    from induct.inversion.priors import load_parameter_table, parse_parameters
+    from induct.io.scenario import load_scenario
+
+    scenario = load_scenario(args.scenario)
+    data = load_measurements(args.data)
+    if args.params:
+        table, where = load_parameter_table(args.params), f"{args.params}"
+    else:
+        table, where = scenario.raw.get("invert"), f"{scenario.path or scenario.name}: [invert]"
+        if not table:
+            raise ValueError(
+                f"{scenario.path or scenario.name}: no [invert] table; add one (e.g. \"ocean.thickness_km\" = "
+                "{ range = [5, 250] }) or give --params FILE"
+            )
+    params = parse_parameters(table, scenario.model, where)
+    if args.grid is not None and args.grid < 2:
+        raise ValueError(f"--grid must be >= 2 points per axis, got {args.grid}")
+    if args.list < 0:
+        raise ValueError(f"--list must be >= 0, got {args.list}")
+    with backend_for(args) as backend:
+        result = invert(
+            scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
+            cap=max(args.list, DEFAULT_LIST_CAP), progress=not args.no_progress and not args.json,
+            steps=args.steps, walkers=args.walkers, seed=args.seed,
+            backend=backend, chunk_size=args.task_size,
+        )
+    written = []
+    if args.plot:
+        from induct.plot.corner import save_corner
+
+        written = save_corner(result, args.plot, title=f"{scenario.name} ({data.source})")
+    if args.json:
+        payload = result.to_dict()
+        payload["body"] = scenario.name
+        payload["data"] = data.source
+        if written:
+            payload["figures"] = [str(w) for w in written]
+        print(json.dumps(payload, indent=2))
+        return 0
+    print(format_summary(result, scenario, data, args.list))
+    for w in written:
+        print(f"wrote {w}")
+    return 0
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.3g}"
+
+
+def format_summary(result, scenario, data, n_list: int = 10) -> str:
+    """The readable text summary of an inversion result."""
+    k = len(result.parameters)
+    lines = [
+        f"{scenario.name}: inversion of {data.n_entries} measured response(s) ({data.n_data} data) from {data.source}",
+        "periods (h): " + ", ".join(f"{p:g}" + (f" (n={d})" if d != 1 else "") for p, d in zip(data.period_h, data.degree)),
+    ]
+    if result.method == "grid":
+        shape = " x ".join(str(n) for n in result.grid_points)
+        lines.append(
+            f"method: exact posterior on a {shape} grid of equal-prior-mass cells ({result.n_models:,d} possible models, "
+            f"{result.n_impossible:,d} physically impossible with zero prior); uniform / log-uniform priors, Gaussian likelihood"
+        )
+    else:
+        d = result.diagnostics
+        lines.append(
+            f"method: MCMC, {d['sampler']}, {d['walkers']} walkers x {d['steps']} steps ({result.n_models:,d} models "
+            f"evaluated, {result.n_impossible:,d} proposals physically impossible); uniform / log-uniform priors, "
+            "Gaussian likelihood"
+        )
+    lines.append(
+        f"best fit: chi2 = {result.chi2_min:.3f} for {result.n_data} data and {k} free parameter(s) "
+        f"(chi2 per datum {result.chi2_min / result.n_data:.2f})"
+    )
+    lines.append("")
+    params = result.parameters
+    cols = [
+        Column("parameter", "", [p.name for p in params], "s"),
+        Column("unit", "", [p.unit for p in params], "s"),
+        Column("prior", "", [f"{p.lo:g}-{p.hi:g} {p.scale}" for p in params], "s"),
+        Column("best", "", [_fmt(result.best[p.name]) for p in params], "s"),
+        Column("68 % range", "", [" - ".join(_fmt(v) for v in result.ranges[p.name]["68"]) for p in params], "s"),
+        Column("95 % range", "", [" - ".join(_fmt(v) for v in result.ranges[p.name]["95"]) for p in params], "s"),
+    ]
+    lines.append(format_table(cols))
+    lines.append(
+        "ranges: equal-tailed posterior credible intervals (68 %: 16th-84th percentile, 95 %: 2.5th-97.5th) "
+        "of each marginal posterior"
+    )
+    if result.method == "mcmc":
+        d = result.diagnostics
+        taus = ", ".join(f"{name} {t:.0f}" for name, t in d["autocorr_time"].items())
+        lines.append(
+            f"MCMC diagnostics: autocorrelation time (steps) {taus}; mean acceptance fraction {d['acceptance_fraction']:.2f}; "
+            f"burn-in {d['burn_in']}, thin {d['thin']}; about {d['independent_samples']:.0f} independent samples; "
+            + ("chain longer than 50 autocorrelation times" if d["converged"] else
+               "NOT CONVERGED: chain shorter than 50 autocorrelation times, run more --steps")
+        )
+    lines.append("")
+    if result.tradeoffs:
+        lines.append("what the data do not separate:")
+        lines.extend(f"  - {t}" for t in result.tradeoffs)
+    else:
+        lines.append("what the data do not separate: no strong trade-off (all |r| <= 0.7, every 95 % range within 70 % of its prior)")
+    if result.notes:
+        lines.append("notes:")
+        lines.extend(f"  - {t}" for t in result.notes)
+    lines.append("")
+    two = result.two_sigma
+    what = "grid cells" if result.method == "grid" else "distinct sampled models"
+    lines.append(
+        f"combinations that fit within 2 sigma (chi2 - chi2_min <= {two.delta_chi2:.3f}, the 95.45 % quantile of chi2 "
+        f"with {k} degrees of freedom): {two.count:,d} {what}"
+    )
+    shown = two.rows[:n_list]
+    if shown:
+        cols = [Column(p.name, p.unit, [row[p.name] for row in shown], ".4g") for p in params]
+        cols.append(Column("chi2", "", [row["chi2"] for row in shown], ".3f"))
+        lines.append(format_table(cols))
+    lines.append(f"({len(shown)} listed, {two.count - len(shown):,d} not listed)")
+    lines.append("")
+    lines.append(NOT_MODELLED)
+    return "\n".join(lines)

@@ -1,0 +1,129 @@
+"""``induct map SCENARIO --x SPEC --y SPEC ...``: a feasibility map over two interior parameters."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from induct.planning.maps import DEFAULT_TASK_SIZE, QUANTITIES, feasibility_map, parse_axis_spec
+from induct.cli.commands._cluster import add_cluster_options, backend_for
+from induct.io.measurements import load_measurements
+from induct.plot.style import LIMITS_CAPTION
+from induct.io.scenario import load_scenario
+
+SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km or conductivity_S_per_m (e.g. 'ice shell.thickness_km=5:60:200')"
+
+
+def register(subparsers):
+    p = subparsers.add_parser(
+        "map",
+        help="feasibility map: amplitude, phase lag or induced field over a grid of two interior parameters",
+        description=(
+            "Vary two interior parameters of a scenario over a grid and map one quantity at one driving period. "
+            "Writes PREFIX.png and PREFIX.pdf (filled contours), PREFIX.nc (CF-style NetCDF) and PREFIX.csv "
+            "(one row per cell). The nT quantities are the induced field (or its difference from a reference "
+            "interior) over the pole of a uniform driving field."
+        ),
+        epilog=LIMITS_CAPTION,
+    )
+    p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
+    p.add_argument("--x", required=True, metavar="SPEC", help=f"horizontal axis: {SPEC_HELP}")
+    p.add_argument("--y", required=True, metavar="SPEC", help="vertical axis, same form as --x")
+    p.add_argument("--period-h", type=float, metavar="P", help="driving period (h); default: the scenario's first period")
+    p.add_argument("--quantity", default="amplitude", choices=list(QUANTITIES), help="mapped quantity (default amplitude)")
+    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude over the pole for the nT quantities (km, default 0)")
+    p.add_argument("--drive-nT", "--drive-nt", dest="drive_nT", type=float, metavar="NT", help="driving-field amplitude (nT), needed by the nT quantities")
+    p.add_argument("--reference", metavar="OTHER.toml", help="reference interior (scenario file or bundled name) for difference_nT")
+    p.add_argument("--data", metavar="MEASUREMENTS.toml", help="measured responses ([[response]] tables, or a bundled name such as ilmare_measured): overlay the 1 and 2 sigma regions")
+    p.add_argument(
+        "--region", choices=["confidence", "goodness"], default="confidence",
+        help="with --data: 'confidence' = joint region of the two mapped parameters (chi2 - min <= 2.30, 6.18), "
+        "'goodness' = cells whose chi2 passes a goodness-of-fit test on its own (default confidence)",
+    )
+    p.add_argument("--noise-nT", "--noise-nt", dest="noise_nT", type=float, metavar="NT", help="noise level (nT): draw the detectability contour k x noise (nT quantities)")
+    p.add_argument("--k", type=float, default=3.0, help="multiple of the noise that counts as detectable (default 3)")
+    p.add_argument("--degree", type=int, default=1, help="degree n of the driving field (default 1; the nT quantities and --data need 1)")
+    p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix: writes PREFIX.png, .pdf, .nc, .csv")
+    p.add_argument("--no-netcdf", action="store_true", help="do not write PREFIX.nc (no xarray/h5netcdf needed)")
+    p.add_argument("--progress", action="store_true", help="show a progress bar")
+    add_cluster_options(p, DEFAULT_TASK_SIZE)
+    return p
+
+
+def run(args) -> int:
+    if not args.no_netcdf:
+        from induct.io.map_files import require_netcdf
+
+        try:
+            require_netcdf()
+        except ImportError as exc:
+            raise ValueError(f"{exc}; or pass --no-netcdf") from None
+    scenario = load_scenario(args.scenario)
+    period = args.period_h
+    if period is None:
+        if not len(scenario.periods_h):
+            raise ValueError("no period: give --period-h or [drive] periods_h in the scenario")
+        period = float(scenario.periods_h[0])
+    reference = label = None
+    if args.reference:
+        ref_scenario = load_scenario(args.reference)
+        reference, label = ref_scenario.model, Path(args.reference).stem
+    measurements = load_measurements(args.data) if args.data else None
+    with backend_for(args) as backend:
+        result = _compute(args, scenario, period, reference, label, measurements, backend)
+    return _write(args, scenario, result)
+
+
+def _compute(args, scenario, period, reference, label, measurements, backend):
+    return feasibility_map(
+        scenario.model,
+        parse_axis_spec(args.x, scenario.model, "--x"),
+        parse_axis_spec(args.y, scenario.model, "--y"),
+        period,
+        args.quantity,
+        degree=args.degree,
+        altitude_km=args.altitude_km,
+        drive_nT=args.drive_nT,
+        reference=reference,
+        reference_label=label,
+        measurements=measurements,
+        region=args.region,
+        noise_nT=args.noise_nT,
+        k=args.k,
+        progress=args.progress,
+        backend=backend,
+        chunk_size=args.task_size,
+    )
+
+
+def _write(args, scenario, result) -> int:
+    prefix = Path(args.out)
+    prefix.parent.mkdir(parents=True, exist_ok=True)
+    from induct.io.map_files import plot_map
+
+    written = plot_map(result, prefix)
+    csv_path = prefix.with_name(prefix.name + ".csv")
+    result.write_csv(csv_path)
+    written.append(csv_path)
+    if not args.no_netcdf:
+        nc_path = prefix.with_name(prefix.name + ".nc")
+        result.write_netcdf(nc_path)
+        written.append(nc_path)
+    print(f"{scenario.name}: {result.describe()}")
+    print(f"  x: {result.x}   y: {result.y}   ({result.values.size} cells)")
+    finite = result.values[np.isfinite(result.values)]
+    if finite.size:
+        print(f"  {result.label}: {finite.min():.4g} to {finite.max():.4g}")
+    if result.chi_square is not None:
+        print(f"  best chi-square on the map: {np.nanmin(result.chi_square):.4g} for {result.n_data} measured values")
+        for nsig, level in result.chi_square_levels.items():
+            share = np.mean(result.chi_square <= level)
+            print(f"  inside the {nsig} sigma {result.region} region: {100 * share:.1f} % of the cells")
+    if result.detection_threshold_nT is not None:
+        share = np.mean(finite > result.detection_threshold_nT) if finite.size else 0.0
+        print(f"  above {result.detection_threshold_nT:g} nT (k x noise): {100 * share:.1f} % of the cells")
+    for path in written:
+        print(f"wrote {path}")
+    print(LIMITS_CAPTION)
+    return 0

@@ -1,0 +1,100 @@
+"""``induct separate SCENARIO --other OTHER.toml ...``: at which periods and altitudes candidate interiors differ."""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import numpy as np
+
+from induct.plot.style import LIMITS_CAPTION
+from induct.io.scenario import load_scenario
+from induct.planning.separation import plot_separation, separation, separation_columns
+from induct.cli.tables import format_table, table_csv
+
+
+def register(subparsers):
+    p = subparsers.add_parser(
+        "separate",
+        help="difference in induced field between candidate interiors versus period and altitude (mission planning)",
+        description=(
+            "Compare two or more candidate interiors of one body: the induced field over the pole of a uniform "
+            "driving field and, for every pair, the magnitude of the difference of their induced fields, versus "
+            "period (log axis) and versus altitude. Writes PREFIX.png/.pdf, PREFIX_period.csv, "
+            "PREFIX_altitude.csv and PREFIX_summary.csv, and prints the summary table."
+        ),
+        epilog=LIMITS_CAPTION,
+    )
+    p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
+    p.add_argument("--other", nargs="+", required=True, metavar="OTHER.toml", help="further candidate interiors (scenario files or bundled names)")
+    p.add_argument("--drive-nT", "--drive-nt", dest="drive_nT", type=float, required=True, metavar="NT", help="driving-field amplitude (nT)")
+    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude over the pole of the period curves (km, default 0)")
+    p.add_argument("--periods-h", default="0.5:1000:200", metavar="lo:hi:n", help="period grid (h), logarithmic (default 0.5:1000:200)")
+    p.add_argument("--mark-periods-h", type=float, nargs="+", metavar="P", help="periods of the altitude curves (default: the scenario's driving periods)")
+    p.add_argument("--altitudes-km", default=None, metavar="lo:hi:n", help="altitude grid (km), linear (default 0 to one body radius, 101 values)")
+    p.add_argument("--noise-nT", "--noise-nt", dest="noise_nT", type=float, metavar="NT", help="instrument noise (nT): draws k x noise and reports the largest useful altitude")
+    p.add_argument("--k", type=float, default=3.0, help="multiple of the noise that counts as detectable (default 3)")
+    p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix")
+    return p
+
+
+def _range(text: str, what: str, log: bool) -> np.ndarray:
+    parts = text.split(":")
+    try:
+        lo, hi, n = float(parts[0]), float(parts[1]), int(parts[2])
+        if len(parts) != 3:
+            raise IndexError
+    except (ValueError, IndexError):
+        raise ValueError(f"{what} must be lo:hi:n (e.g. 0.5:1000:200), got {text!r}") from None
+    if not (np.isfinite(lo) and np.isfinite(hi) and lo < hi) or n < 2 or (log and lo <= 0) or lo < 0:
+        raise ValueError(f"{what} needs 0 {'<' if log else '<='} lo < hi (finite) and n >= 2, got {text!r}")
+    return np.logspace(np.log10(lo), np.log10(hi), n) if log else np.linspace(lo, hi, n)
+
+
+def run(args) -> int:
+    names = [args.scenario] + list(args.other)
+    scenarios = [load_scenario(name) for name in names]
+    labels = [Path(name).stem for name in names]
+    if len(set(labels)) != len(labels):
+        labels = [f"{i + 1}: {label}" for i, label in enumerate(labels)]
+    marked = args.mark_periods_h
+    if marked is None and len(scenarios[0].periods_h):
+        marked = scenarios[0].periods_h
+    result = separation(
+        [s.model for s in scenarios],
+        labels,
+        drive_nT=args.drive_nT,
+        periods_h=_range(args.periods_h, "--periods-h", True),
+        altitude_km=args.altitude_km,
+        marked_periods_h=marked,
+        altitudes_km=None if args.altitudes_km is None else _range(args.altitudes_km, "--altitudes-km", False),
+        noise_nT=args.noise_nT,
+        k=args.k,
+    )
+    prefix = Path(args.out)
+    prefix.parent.mkdir(parents=True, exist_ok=True)
+    written = plot_separation(result, prefix)
+    period_csv = prefix.with_name(prefix.name + "_period.csv")
+    with open(period_csv, "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(["period_h"] + [f"induced_nT {x}" for x in result.labels] + [f"difference_nT {result.pair_label(i)}" for i in range(len(result.pairs))])
+        for j, period in enumerate(result.periods_h):
+            w.writerow([repr(float(v)) for v in [period, *result.induced_nT[:, j], *result.difference_nT[:, j]]])
+    alt_csv = prefix.with_name(prefix.name + "_altitude.csv")
+    with open(alt_csv, "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        heads = [f"difference_nT {result.pair_label(i)} at {p:g} h" for i in range(len(result.pairs)) for p in result.marked_periods_h]
+        w.writerow(["altitude_km"] + heads)
+        flat = result.difference_vs_altitude_nT.reshape(-1, result.altitudes_km.size)
+        for j, alt in enumerate(result.altitudes_km):
+            w.writerow([repr(float(v)) for v in [alt, *flat[:, j]]])
+    cols = separation_columns(result)
+    summary_csv = prefix.with_name(prefix.name + "_summary.csv")
+    summary_csv.write_text(table_csv(cols))
+    written += [period_csv, alt_csv, summary_csv]
+    print(f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT over the pole")
+    print(format_table(cols))
+    for path in written:
+        print(f"wrote {path}")
+    print(LIMITS_CAPTION)
+    return 0

@@ -1,1 +1,0 @@
-"""Sub-commands of the ``induct`` command line; see :mod:`induct.cli`."""

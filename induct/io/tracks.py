@@ -1,0 +1,308 @@
+"""Flyby trajectories and magnetometer series: CSV reading, checks and frames.
+
+File format
+-----------
+Comma-separated text with a header line naming the columns; lines starting
+with ``#`` are comments (anywhere) and blank lines are skipped. Columns may come
+in any order and extra columns are ignored. A trajectory needs
+``t_s,x_km,y_km,z_km``; a residual series (``induct fit``) also needs
+``bx_nT,by_nT,bz_nT``::
+
+    # flyby 1, flow frame
+    t_s,x_km,y_km,z_km
+    216000.0,-5200.3,1817.2,-2950.0
+    ...
+
+* ``t_s``: time in seconds from the epoch of the scenario's driving lines,
+  strictly increasing within a file.
+* positions: moon-centred, km.
+* Frame: ``flow`` (default; x along the corotation flow, y toward the planet's
+  spin axis, z along it -- the frame of the driving lines, see
+  :mod:`induct.field.orbit`) or ``body`` (body-fixed axes of a synchronously rotating
+  moon: x toward the sub-planet point, z along its spin axis, y completing the
+  right-handed set; ``x_flow = -y_body, y_flow = x_body, z_flow = z_body``).
+  Give it with an optional ``frame`` column (one value for the whole file) or
+  the ``frame`` argument; vectors in the file (field components) are in the
+  same frame as the positions.
+
+Every error names the file, the data row (1 = first row after the header), the
+file line and the column.
+"""
+
+from __future__ import annotations
+
+import csv
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+__all__ = [
+    "FRAMES",
+    "TRACK_COLUMNS",
+    "RESIDUAL_COLUMNS",
+    "Track",
+    "read_track",
+    "resolve_track_path",
+    "to_flow_frame",
+    "from_flow_frame",
+    "check_outside",
+    "write_csv",
+]
+
+#: Supported frames: name -> matrix M with ``v_flow = M @ v_frame``.
+FRAMES = {
+    "flow": np.eye(3),
+    "body": np.array([[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]),
+}
+TRACK_COLUMNS = ("t_s", "x_km", "y_km", "z_km")
+RESIDUAL_COLUMNS = TRACK_COLUMNS + ("bx_nT", "by_nT", "bz_nT")
+
+
+@dataclass(frozen=True, eq=False)
+class Track:
+    """A checked trajectory (and optional columns) read from a CSV file.
+
+    Attributes
+    ----------
+    times_s : ndarray, shape (N,)
+        Times (s), strictly increasing.
+    positions_km : ndarray, shape (N, 3)
+        Moon-centred positions (km) in the **flow frame** (converted on reading).
+    frame : str
+        Frame of the file ("flow" or "body").
+    columns : dict of str -> ndarray, shape (N,)
+        Further requested numeric columns, as in the file (not rotated).
+    source : str
+        File name, for messages.
+    file_lines : ndarray of int, shape (N,)
+        File line number of each row (for messages).
+    """
+
+    times_s: np.ndarray
+    positions_km: np.ndarray
+    frame: str
+    columns: dict = field(default_factory=dict)
+    source: str = "<track>"
+    file_lines: np.ndarray | None = None
+
+    @property
+    def size(self) -> int:
+        """Number of rows N."""
+        return int(self.times_s.size)
+
+    def where(self, i: int) -> str:
+        """Human-readable location of row ``i`` (0-based)."""
+        line = f", line {int(self.file_lines[i])}" if self.file_lines is not None else ""
+        return f"{self.source}: row {i + 1}{line}"
+
+    def vectors_to_flow(self, names) -> np.ndarray:
+        """Columns ``names`` (3 of them) as flow-frame vectors, shape (N, 3)."""
+        v = np.stack([self.columns[n] for n in names], axis=-1)
+        return to_flow_frame(v, self.frame)
+
+
+def _check_frame(frame, where: str) -> str:
+    if frame not in FRAMES:
+        raise ValueError(f"{where}: unknown frame {frame!r}; allowed: {', '.join(FRAMES)}")
+    return frame
+
+
+def to_flow_frame(vectors, frame: str) -> np.ndarray:
+    """Rotate vectors (positions or fields), shape (N, 3), from ``frame`` to the flow frame."""
+    _check_frame(frame, "frame")
+    return np.asarray(vectors, dtype=float) @ FRAMES[frame].T
+
+
+def from_flow_frame(vectors, frame: str) -> np.ndarray:
+    """Rotate vectors, shape (N, 3), from the flow frame to ``frame``."""
+    _check_frame(frame, "frame")
+    return np.asarray(vectors, dtype=float) @ FRAMES[frame]
+
+
+def resolve_track_path(name_or_path) -> Path:
+    """An existing file, or the stem of a track bundled with the scenarios (e.g. ``"ilmare_flyby"``)."""
+    from induct.io.scenario import resolve_bundled
+
+    return resolve_bundled(name_or_path, ".csv", "trajectory file")
+
+
+def _read_rows(path: Path):
+    """Header cells, header line number, data lines (text) and their line numbers."""
+    header, header_line, rows, lines = None, 0, [], []
+    with open(path, newline="", encoding="utf-8") as handle:
+        for number, text in enumerate(handle, start=1):
+            stripped = text.strip()
+            if not stripped or stripped.startswith("#"):
+                continue
+            if header is None:
+                header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
+                continue
+            rows.append(stripped)
+            lines.append(number)
+    return header, header_line, rows, lines
+
+
+def _fast_table(rows, width):
+    """All-numeric rows of equal width as a float array (M, width), or None (then the careful path finds the error)."""
+    try:
+        table = np.loadtxt(rows, delimiter=",", ndmin=2, dtype=float)
+    except ValueError:
+        return None
+    return table if table.shape == (len(rows), width) else None
+
+
+def read_track(path, *, columns=(), frame: str | None = None) -> Track:
+    """Read and check a trajectory CSV file (format in the module docstring).
+
+    Parameters
+    ----------
+    path : str or Path
+        The file, or the stem of a bundled track.
+    columns : sequence of str
+        Further numeric columns that must be present (e.g. ``("bx_nT", "by_nT", "bz_nT")``).
+    frame : str, optional
+        Frame of the file ("flow" or "body"); must agree with a ``frame`` column if both are given.
+        Default: the ``frame`` column, else "flow".
+
+    Returns
+    -------
+    Track
+        Positions converted to the flow frame.
+
+    Raises
+    ------
+    ValueError
+        Naming the file, row, line and column: missing header or columns, a row with the wrong
+        number of values, a non-numeric, NaN or infinite value, an unknown or mixed frame,
+        times that do not increase strictly (duplicate or out of order), fewer than 2 rows.
+    """
+    path = resolve_track_path(path)
+    source = str(path)
+    if frame is not None:
+        _check_frame(frame, f"{source}: frame option")
+    header, header_line, rows, lines = _read_rows(path)
+    if header is None:
+        raise ValueError(f"{source}: empty file; the first line must be a header such as {','.join(TRACK_COLUMNS)}")
+    needed = list(TRACK_COLUMNS) + [c for c in columns if c not in TRACK_COLUMNS]
+    dup = sorted({c for c in header if header.count(c) > 1})
+    if dup:
+        raise ValueError(f"{source}: line {header_line}: column(s) {', '.join(dup)} appear more than once in the header")
+    missing = [c for c in needed if c not in header]
+    if missing:
+        raise ValueError(
+            f"{source}: line {header_line}: missing column(s) {', '.join(missing)}; the header must name "
+            f"{','.join(needed)} (got {','.join(header)})"
+        )
+    if len(rows) < 2:
+        raise ValueError(f"{source}: needs at least 2 data rows, got {len(rows)}")
+    width = len(header)
+    index = {c: header.index(c) for c in needed}
+    fast = None if "frame" in header else _fast_table(rows, width)
+    data = {}
+    if fast is not None:
+        for name in needed:
+            values = fast[:, index[name]]
+            bad = ~np.isfinite(values)
+            if bad.any():
+                i = int(np.argmax(bad))
+                cell = next(csv.reader([rows[i]]))[index[name]].strip()
+                raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: value must be finite, got {cell!r}")
+            data[name] = values.copy()
+        table = None
+    else:
+        cells = [next(csv.reader([row])) for row in rows]
+        for i, (row, number) in enumerate(zip(cells, lines)):
+            if len(row) != width:
+                raise ValueError(f"{source}: row {i + 1}, line {number}: {len(row)} values, expected {width} ({','.join(header)})")
+        table = np.array(cells, dtype=object)
+        for name in needed:
+            raw = table[:, index[name]]
+            try:
+                values = raw.astype(str).astype(float)
+            except ValueError:
+                for i, cell in enumerate(raw):
+                    try:
+                        float(cell)
+                    except ValueError:
+                        raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: not a number: {cell!r}") from None
+                raise  # pragma: no cover - astype and float agree
+            bad = ~np.isfinite(values)
+            if bad.any():
+                i = int(np.argmax(bad))
+                raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: value must be finite, got {raw[i].strip()!r}")
+            data[name] = values
+    file_frame = None
+    if "frame" in header:
+        col = [str(c).strip() for c in table[:, header.index("frame")]]
+        for i, value in enumerate(col):
+            if value not in FRAMES:
+                raise ValueError(
+                    f"{source}: row {i + 1}, line {lines[i]}, column frame: unknown frame {value!r}; allowed: {', '.join(FRAMES)}"
+                )
+            if value != col[0]:
+                raise ValueError(
+                    f"{source}: row {i + 1}, line {lines[i]}, column frame: {value!r} differs from the first row's "
+                    f"{col[0]!r}; one frame per file"
+                )
+        file_frame = col[0]
+        if frame is not None and frame != file_frame:
+            raise ValueError(f"{source}: column frame says {file_frame!r} but the frame option says {frame!r}")
+    use_frame = frame or file_frame or "flow"
+    t = data["t_s"]
+    step = np.diff(t)
+    bad = step <= 0.0
+    if bad.any():
+        i = int(np.argmax(bad)) + 1
+        kind = "repeats" if step[i - 1] == 0.0 else "is earlier than"
+        raise ValueError(
+            f"{source}: row {i + 1}, line {lines[i]}, column t_s: t_s = {float(t[i])!r} {kind} the previous row's "
+            f"{float(t[i - 1])!r}; times must increase strictly (no duplicates, in time order)"
+        )
+    pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
+    extra = {c: data[c] for c in needed if c not in TRACK_COLUMNS}
+    return Track(t, to_flow_frame(pos, use_frame), use_frame, extra, source, np.array(lines))
+
+
+def check_outside(track: Track, radius_km: float, what: str = "the body") -> None:
+    """Raise ValueError naming the first row of ``track`` with ``|r| < radius_km`` (relative tolerance 1e-12).
+
+    Parameters
+    ----------
+    track : Track
+    radius_km : float
+        Radius below which the induced-field formulas do not hold (km): the body's
+        radius, or the radius of its ionosphere sheet.
+    what : str
+        What the radius is, for the message.
+    """
+    r = np.linalg.norm(track.positions_km, axis=1)
+    inside = r < radius_km * (1.0 - 1e-12)
+    if inside.any():
+        i = int(np.argmax(inside))
+        raise ValueError(
+            f"{track.where(i)}, columns x_km,y_km,z_km: the point lies inside {what}: |r| = {r[i]:.6g} km < "
+            f"{radius_km:.6g} km (altitude {r[i] - radius_km:.4g} km); the induced-field formula holds only outside"
+        )
+
+
+def write_csv(path, columns: dict, comments=()) -> None:
+    """Write named columns (each shape (N,)) as CSV with ``#`` comment lines first.
+
+    Parameters
+    ----------
+    path : str or Path
+    columns : dict of str -> array_like, shape (N,)
+        In output order; numbers written with 12 significant digits.
+    comments : sequence of str
+        One ``# ...`` line each.
+    """
+    names = list(columns)
+    arrays = [np.asarray(columns[n], dtype=float) for n in names]
+    n = arrays[0].size if arrays else 0
+    with open(path, "w", encoding="utf-8", newline="") as handle:
+        for text in comments:
+            handle.write("# " + " ".join(str(text).split()) + "\n")
+        handle.write(",".join(names) + "\n")
+        if n:
+            np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")

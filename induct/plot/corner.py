@@ -1,0 +1,113 @@
+"""Corner-style figure of an inversion result (PNG and PDF through :mod:`induct.plot.style`).
+
+Diagonal: the 1-D marginal posterior density of each parameter with its 68 %
+and 95 % equal-tailed ranges shaded and the best fit marked. Below the
+diagonal: the 2-D marginal posterior of each pair (colour: posterior density
+per cell; contours enclosing 68 % and 95 % of the posterior mass), with the
+best fit marked and the correlation coefficient written in the corner, so a
+trade-off shows as a tilted ridge. Log-uniform parameters are drawn on log axes.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from induct.plot.style import COLORS, LIMITS_CAPTION, SEQUENTIAL_CMAP, figure, save_figure
+from induct.inversion.posterior import CORRELATION_THRESHOLD, PosteriorResult, histogram_interval
+
+__all__ = ["corner_figure", "save_corner"]
+
+
+def _label(p) -> str:
+    return f"{p.name} ({p.unit})"
+
+
+def _view(result: PosteriorResult, i: int) -> tuple[float, float]:
+    """Axis limits (field units): the central 99.9 % of the marginal padded by 15 %, within the prior range."""
+    p = result.parameters[i]
+    a, b = p.prior_bounds
+    lo, hi = histogram_interval(result.marginals[i], result.edges[i], 0.999)
+    pad = 0.15 * (hi - lo) + 0.02 * (b - a)
+    return float(p.from_prior(max(a, lo - pad))), float(p.from_prior(min(b, hi + pad)))
+
+
+def _mass_levels(mass: np.ndarray, fractions=(0.95, 0.68)) -> list[float]:
+    """Density thresholds whose super-level sets hold the given fractions of the mass (increasing)."""
+    flat = np.sort(mass.ravel())[::-1]
+    cum = np.cumsum(flat) / flat.sum()
+    levels = [float(flat[min(np.searchsorted(cum, f), flat.size - 1)]) for f in fractions]
+    return sorted(set(levels))
+
+
+def corner_figure(result: PosteriorResult, title: str | None = None):
+    """Build the corner figure of ``result``; returns the matplotlib figure (not saved)."""
+    params = result.parameters
+    k = len(params)
+    size = max(5.0, 2.5 * k)
+    fig, axes = figure(k, k, size=(size, size + 0.8), squeeze=False, caption=LIMITS_CAPTION)
+    fig.subplots_adjust(top=1 - 0.85 / (size + 0.8), bottom=0.75 / (size + 0.8), hspace=0.35, wspace=0.15)
+    view = [_view(result, i) for i in range(k)]
+    xs = [p.from_prior(e) for p, e in zip(params, result.edges)]
+    for i, p in enumerate(params):
+        ax = axes[i, i]
+        e = xs[i]
+        density = result.marginals[i] / np.diff(result.edges[i])
+        ax.stairs(density, e, color=COLORS[0], lw=1.4)
+        lo95, hi95 = result.ranges[p.name]["95"]
+        lo68, hi68 = result.ranges[p.name]["68"]
+        ax.axvspan(lo95, hi95, color=COLORS[0], alpha=0.12, lw=0, label="95 %")
+        ax.axvspan(lo68, hi68, color=COLORS[0], alpha=0.25, lw=0, label="68 %")
+        ax.axvline(result.best[p.name], color=COLORS[1], lw=1.2, label="best fit")
+        ax.set_yticks([])
+        ax.set_title(f"{p.name}\n[{lo68:.3g}, {hi68:.3g}] (68 %)", fontsize=8)
+        if i == 0:
+            ax.legend(fontsize=7, loc="upper right")
+        for j in range(k):
+            if j > i:
+                axes[i, j].set_visible(False)
+    for (j, i), mass in result.maps.items():  # j < i: row i, column j
+        ax = axes[i, j]
+        density = mass / np.outer(np.diff(result.edges[j]), np.diff(result.edges[i]))
+        ax.pcolormesh(xs[j], xs[i], density.T, cmap=SEQUENTIAL_CMAP, shading="flat", rasterized=True)
+        levels = _mass_levels(mass)
+        if mass.sum() > 0 and len(levels) == 2 and min(mass.shape) >= 3:
+            cj = params[j].from_prior(0.5 * (result.edges[j][:-1] + result.edges[j][1:]))
+            ci = params[i].from_prior(0.5 * (result.edges[i][:-1] + result.edges[i][1:]))
+            ax.contour(cj, ci, mass.T, levels=levels, colors="white", linewidths=(0.8, 1.2))
+        ax.plot(result.best[params[j].name], result.best[params[i].name], "x", color=COLORS[1], ms=7, mew=1.8)
+        r = result.correlation[i, j]
+        flag = " trade-off" if abs(r) > CORRELATION_THRESHOLD else ""
+        ax.text(0.03, 0.95, f"r = {r:+.2f}{flag}", transform=ax.transAxes, fontsize=7, va="top",
+                color="white", bbox=dict(facecolor="black", alpha=0.35, lw=0, pad=1.5))
+    for i, p in enumerate(params):
+        for row in range(k):
+            ax = axes[row, i]
+            if row >= i:
+                if p.log:
+                    ax.set_xscale("log")
+                ax.set_xlim(*view[i])
+        for col in range(i):
+            ax = axes[i, col]
+            if p.log:
+                ax.set_yscale("log")
+            ax.set_ylim(*view[i])
+        axes[k - 1, i].set_xlabel(_label(p), fontsize=8)
+        if i > 0:
+            axes[i, 0].set_ylabel(_label(p), fontsize=8)
+        for row in range(k - 1):
+            if row >= i:
+                axes[row, i].tick_params(labelbottom=False)
+        for col in range(1, i):
+            axes[i, col].tick_params(labelleft=False)
+    head = title or "Posterior"
+    fig.suptitle(
+        f"{head}: {result.method}, chi2_min = {result.chi2_min:.3g} for {result.n_data} data\n"
+        f"{result.interval} 68 % / 95 % ranges; axes show the central 99.9 % of each marginal",
+        fontsize=9,
+    )
+    return fig
+
+
+def save_corner(result: PosteriorResult, path, title: str | None = None) -> list:
+    """Draw and save the corner figure as PNG and PDF (``path`` with or without suffix); returns the paths."""
+    return save_figure(corner_figure(result, title), path)
