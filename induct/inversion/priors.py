@@ -119,7 +119,7 @@ def load_parameter_table(path) -> dict:
     path = Path(path)
     if not path.is_file():
         raise FileNotFoundError(f"parameter file {str(path)!r} not found")
-    from induct.io.scenario import read_toml
+    from induct.io.toml import read_toml
 
     doc = read_toml(path)
     return doc.get("invert", doc)

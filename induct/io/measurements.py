@@ -283,7 +283,7 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
 
 def resolve_data_path(name_or_path) -> Path:
     """An existing file, or the stem of a measurement file bundled with the scenarios (e.g. ``"ilmare_measured"``)."""
-    from induct.io.scenario import resolve_bundled
+    from induct.io.bundled import resolve_bundled
 
     return resolve_bundled(name_or_path, ".toml", "measurement file")
 
@@ -300,7 +300,7 @@ def load_measurements(name_or_path) -> Measurements:
     -------
     Measurements
     """
-    from induct.io.scenario import read_toml
+    from induct.io.toml import read_toml
 
     path = resolve_data_path(name_or_path)
     return parse_measurements(read_toml(path), source=path.name)

@@ -31,25 +31,17 @@ except in tables that later steps own (``[drive]`` lines, ``[invert]``,
 
 from __future__ import annotations
 
-import tomllib
 from dataclasses import dataclass, field
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
 
+from induct.field.drive import parse_drive_lines
+from induct.io.bundled import bundled_scenarios, resolve_scenario_path
+from induct.io.toml import read_toml
 from induct.model.interior import Ionosphere, InteriorModel, Layer
 
-__all__ = [
-    "Scenario",
-    "load_scenario",
-    "parse_scenario",
-    "bundled_scenarios",
-    "bundled_files",
-    "resolve_bundled",
-    "resolve_scenario_path",
-    "read_toml",
-]
+__all__ = ["Scenario", "load_scenario", "parse_scenario", "bundled_scenarios"]
 
 _TOP_KEYS = {"body", "layers", "ionosphere", "drive", "invert", "flyby", "map", "notes"}
 _BODY_KEYS = {"name", "radius_km", "description", "parent", "epoch"}
@@ -99,8 +91,6 @@ class Scenario:
         lines = self.raw.get("drive", {}).get("lines")
         if not lines:
             return []
-        from induct.field.drive import parse_drive_lines
-
         return parse_drive_lines(self.raw["drive"])
 
 
@@ -184,62 +174,6 @@ def _periods(drive: dict, where: str) -> np.ndarray:
     if any(p is None for p in periods):
         raise ValueError(f"{where}: every [[drive.lines]] needs period_h")
     return np.array(periods, dtype=float)
-
-
-def bundled_files(suffix: str, keep=None) -> dict[str, Path]:
-    """Files shipped in ``induct.scenarios`` with the given suffix: name (file stem) -> path.
-
-    ``keep(path)`` may filter them (for example, scenarios only).
-    """
-    root = resources.files("induct.scenarios")
-    out = {}
-    for p in root.iterdir():
-        if p.name.endswith(suffix) and (keep is None or keep(p)):
-            out[p.name[: -len(suffix)]] = Path(str(p))
-    return out
-
-
-def resolve_bundled(name_or_path, suffix: str, what: str, keep=None) -> Path:
-    """An existing file, or the name of a bundled file with that suffix (FileNotFoundError listing them)."""
-    path = Path(name_or_path)
-    if path.is_file():
-        return path
-    bundled = bundled_files(suffix, keep)
-    key = path.name[: -len(suffix)] if path.name.endswith(suffix) else path.name
-    if key in bundled and not path.exists():
-        return bundled[key]
-    raise FileNotFoundError(
-        f"{what} {str(name_or_path)!r} not found: give a file or the name of one of the bundled {what}s "
-        f"({', '.join(sorted(bundled)) or 'none'})"
-    )
-
-
-def _is_scenario(path) -> bool:
-    return any(line.strip() == "[body]" for line in path.read_text().splitlines())
-
-
-def bundled_scenarios() -> dict[str, Path]:
-    """Scenarios shipped with induct: name (file stem) -> path.
-
-    Only files with a ``[body]`` table count; the folder also holds planet,
-    measurement and trajectory files.
-    """
-    return bundled_files(".toml", _is_scenario)
-
-
-def resolve_scenario_path(name_or_path) -> Path:
-    """A path to an existing file, or the name of a bundled scenario (e.g. ``"ilmare"``)."""
-    return resolve_bundled(name_or_path, ".toml", "scenario", _is_scenario)
-
-
-def read_toml(path) -> dict:
-    """Parse a TOML file; a syntax error becomes a ValueError naming the file."""
-    path = Path(path)
-    with open(path, "rb") as fh:
-        try:
-            return tomllib.load(fh)
-        except tomllib.TOMLDecodeError as exc:
-            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
 
 
 def load_scenario(name_or_path) -> Scenario:

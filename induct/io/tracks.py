@@ -122,7 +122,7 @@ def from_flow_frame(vectors, frame: str) -> np.ndarray:
 
 def resolve_track_path(name_or_path) -> Path:
     """An existing file, or the stem of a track bundled with the scenarios (e.g. ``"ilmare_flyby"``)."""
-    from induct.io.scenario import resolve_bundled
+    from induct.io.bundled import resolve_bundled
 
     return resolve_bundled(name_or_path, ".csv", "trajectory file")
 

@@ -26,9 +26,8 @@ from induct.field.drive import (
     drive_field_nT,
     parse_drive_lines,
     parse_planet_table,
-    read_planet_file,
-    write_drive_lines,
 )
+from induct.io.drive_files import read_planet_file, write_drive_lines
 from induct.field.planet import GaussField, SumField
 
 ROOT = Path(__file__).resolve().parents[2]

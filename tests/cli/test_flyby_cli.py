@@ -11,7 +11,8 @@ import numpy as np
 import pytest
 
 from induct.cli.main import main
-from induct.field.drive import drive_field_nT, read_planet_file
+from induct.field.drive import drive_field_nT
+from induct.io.drive_files import read_planet_file
 from induct.flyby.induced import induced_field, planet_gradient_lines
 from induct.io.measurements import load_measurements
 from induct.io.scenario import load_scenario

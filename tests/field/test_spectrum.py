@@ -17,7 +17,8 @@ import math
 import numpy as np
 import pytest
 
-from induct.field.drive import planet_drive_spectrum, read_planet_file
+from induct.field.drive import planet_drive_spectrum
+from induct.io.drive_files import read_planet_file
 from induct.field.orbit import primary_field_series
 from induct.field.spectrum import fit_harmonics, label_period, line_label, two_period_spectrum
 

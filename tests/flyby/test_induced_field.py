@@ -273,7 +273,7 @@ def test_tarvos_gradient_predicts_field_across_moon():
     # moon's centre and a point s away, minus the steady part, to second order in |s|/a (a = orbital radius):
     # here |s| = 1640 km, a = 617500 km, so the residual is <~ 3 |s|/a ~ 1 % of |G s| (Taylor expansion,
     # common practice). Also checks the flow-frame convention of the positions.
-    from induct.field.drive import read_planet_file
+    from induct.io.drive_files import read_planet_file
     from induct.field.orbit import flow_frame_axes, planet_fixed_position
     from pathlib import Path
 

@@ -24,7 +24,8 @@ import numpy as np
 
 from induct import __version__
 from induct.constants import SECONDS_PER_HOUR
-from induct.field.drive import DriveLine, planet_drive_spectrum, read_planet_file, write_drive_lines
+from induct.field.drive import DriveLine, planet_drive_spectrum
+from induct.io.drive_files import read_planet_file, write_drive_lines
 from induct.field.orbit import primary_field_series, synodic_period_s
 from induct.field.spectrum import fit_harmonics, label_period
 

@@ -60,7 +60,8 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 
 def _planet_lines(args, lines, notes):
-    from induct.field.drive import planet_drive_spectrum, read_planet_file
+    from induct.field.drive import planet_drive_spectrum
+    from induct.io.drive_files import read_planet_file
     from induct.flyby.induced import planet_gradient_lines
 
     system = read_planet_file(args.planet)
