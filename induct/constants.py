@@ -8,3 +8,6 @@ MU0 = 4.0e-7 * math.pi
 
 SECONDS_PER_HOUR = 3600.0
 METRES_PER_KM = 1000.0
+
+#: Newtonian constant of gravitation (m^3 kg^-1 s^-2), CODATA 2018 (Tiesinga et al. 2021, Rev. Mod. Phys. 93, 025010).
+G = 6.67430e-11

@@ -17,112 +17,27 @@ A changed thickness is absorbed by the layer without a thickness (the fill
 layer); combinations that leave the fill layer no room are physically
 impossible and get zero prior.
 
-Salinity as a parameter is mapped to conductivity with
-``induct.brine.conductivity(solute, salinity_g_per_kg, temperature_C,
-pressure_MPa)`` at the layer's ``solute``, at the layer's ``temperature_C`` or
-else the freezing point, and at the hydrostatic pressure at the top of the
-layer (surface gravity from the layer densities, thin-shell approximation;
-the thicknesses of the cell in question). Temperatures at the freezing point
-use ``induct.brine.freezing_point(solute, salinity_g_per_kg, pressure_MPa)``.
+Salinity (and, where the layer sets one, temperature) of a chemistry-defined ocean
+are evaluated by the same ocean model as every forward run
+(:func:`induct.model.ocean.ocean_sublayers` through
+:meth:`induct.model.interior.InteriorModel.parameter_arrays`): same pressure,
+gravity, temperature profile and sub-layers.
 """
 
 from __future__ import annotations
 
-import math
 import warnings
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Mapping, Sequence
 
 import numpy as np
 
-from induct.constants import METRES_PER_KM
-from induct.model.interior import InteriorModel, split_parameter
+from induct.model.interior import InteriorModel
+from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range
 
-__all__ = ["Parameter", "parse_parameters", "load_parameter_table", "ParameterMap", "PARAMETER_FIELDS"]
+__all__ = ["Parameter", "parse_parameters", "ParameterMap"]
 
-#: Fields that may be free, with their unit and the lowest allowed value (inclusive flag).
-PARAMETER_FIELDS = {
-    "thickness_km": ("km", 0.0, False),  # > 0
-    "conductivity_S_per_m": ("S/m", 0.0, True),  # >= 0
-    "salinity_g_per_kg": ("g/kg", 0.0, True),  # >= 0
-    "conductance_S": ("S", 0.0, True),  # >= 0 (ionosphere only)
-}
-_SCALES = ("linear", "log")
 _SPEC_KEYS = {"range", "scale"}
-#: Newtonian constant of gravitation (m^3 kg^-1 s^-2), CODATA 2018.
-G_SI = 6.67430e-11
-
-
-@dataclass(frozen=True)
-class Parameter:
-    """One free parameter with a uniform (``linear``) or log-uniform (``log``) prior on [lo, hi].
-
-    Attributes
-    ----------
-    name : str
-        ``"LAYER.FIELD"``.
-    lo, hi : float
-        Prior range in the field's unit (``unit``), lo < hi.
-    scale : str
-        ``"linear"`` or ``"log"``.
-    """
-
-    name: str
-    lo: float
-    hi: float
-    scale: str = "linear"
-
-    @property
-    def field(self) -> str:
-        """The field name (``thickness_km``, ...)."""
-        return split_parameter(self.name)[1]
-
-    @property
-    def unit(self) -> str:
-        """Unit of the value ("km", "S/m", "g/kg", "S")."""
-        return PARAMETER_FIELDS[self.field][0]
-
-    @property
-    def log(self) -> bool:
-        """True for a log-uniform prior."""
-        return self.scale == "log"
-
-    def to_prior(self, x):
-        """Prior coordinate u of values x (x itself, or log10 x); array_like -> ndarray."""
-        x = np.asarray(x, dtype=float)
-        return np.log10(x) if self.log else x
-
-    def from_prior(self, u):
-        """Values x of prior coordinates u (inverse of :meth:`to_prior`)."""
-        u = np.asarray(u, dtype=float)
-        return 10.0**u if self.log else u
-
-    @property
-    def prior_bounds(self) -> tuple[float, float]:
-        """(lo, hi) in the prior coordinate."""
-        return float(self.to_prior(self.lo)), float(self.to_prior(self.hi))
-
-    def edges(self, points: int) -> np.ndarray:
-        """Cell edges of a grid with ``points`` equal-prior-mass cells, in the prior coordinate; shape (points + 1,)."""
-        a, b = self.prior_bounds
-        return np.linspace(a, b, int(points) + 1)
-
-    def midpoints(self, points: int) -> np.ndarray:
-        """Cell midpoints of that grid as values (field unit); shape (points,)."""
-        e = self.edges(points)
-        return self.from_prior(0.5 * (e[:-1] + e[1:]))
-
-
-def load_parameter_table(path) -> dict:
-    """Read a ``--params`` TOML file: its ``[invert]`` table, or the whole document if it has none."""
-    path = Path(path)
-    if not path.is_file():
-        raise FileNotFoundError(f"parameter file {str(path)!r} not found")
-    from induct.io.toml import read_toml
-
-    doc = read_toml(path)
-    return doc.get("invert", doc)
 
 
 def _range(spec, name, where):
@@ -134,47 +49,7 @@ def _range(spec, name, where):
     rng = spec.get("range")
     if not isinstance(rng, list) or len(rng) != 2 or any(isinstance(v, bool) or not isinstance(v, (int, float)) for v in rng):
         raise ValueError(f"{where}: {name!r}: range must be [lo, hi] (two numbers), got {rng!r}")
-    lo, hi = float(rng[0]), float(rng[1])
-    if not (math.isfinite(lo) and math.isfinite(hi)):
-        raise ValueError(f"{where}: {name!r}: range must be finite, got {rng!r}")
-    if lo >= hi:
-        raise ValueError(f"{where}: {name!r}: empty range: lo = {lo:g} must be < hi = {hi:g}")
-    scale = spec.get("scale", "linear")
-    if scale not in _SCALES:
-        raise ValueError(f"{where}: {name!r}: scale must be 'linear' or 'log', got {scale!r}")
-    return lo, hi, scale
-
-
-def _check_name(name, model: InteriorModel, where):
-    layer_name, field_name = split_parameter(name)
-    if layer_name == "ionosphere":
-        if field_name != "conductance_S":
-            raise ValueError(f"{where}: unknown parameter {name!r}: the ionosphere's only free field is conductance_S")
-        if model.ionosphere is None:
-            raise ValueError(f"{where}: unknown parameter {name!r}: the scenario has no [ionosphere]")
-        return
-    if layer_name not in model.layer_names:
-        raise ValueError(
-            f"{where}: unknown parameter {name!r}: no layer {layer_name!r} (layers: {', '.join(model.layer_names)})"
-        )
-    allowed = [f for f in PARAMETER_FIELDS if f != "conductance_S"]
-    if field_name not in allowed:
-        raise ValueError(f"{where}: unknown parameter {name!r}: field must be one of {', '.join(allowed)}")
-    if field_name == "thickness_km":
-        if model.layers[-1].thickness_km is not None:
-            raise ValueError(f"{where}: {name!r} cannot vary: the model has no fill layer (a layer without thickness) to absorb it")
-        if layer_name == model.layer_names[-1]:
-            raise ValueError(f"{where}: {name!r} cannot vary: {layer_name!r} is the fill layer; it absorbs the other thicknesses")
-
-
-def _check_domain(p: Parameter, where):
-    unit, low, inclusive = PARAMETER_FIELDS[p.field]
-    bad = p.lo < low if inclusive else p.lo <= low
-    if bad:
-        rel = ">=" if inclusive else ">"
-        raise ValueError(f"{where}: {p.name!r}: range [{p.lo:g}, {p.hi:g}] leaves the physical domain: {p.field} must be {rel} {low:g} {unit}")
-    if p.log and p.lo <= 0:
-        raise ValueError(f"{where}: {p.name!r}: scale = 'log' needs lo > 0, got {p.lo:g}")
+    return float(rng[0]), float(rng[1]), spec.get("scale", "linear")
 
 
 def _check_feasible(params: Sequence[Parameter], model: InteriorModel, where):
@@ -225,10 +100,10 @@ def parse_parameters(table: Mapping, model: InteriorModel, where: str = "[invert
         )
     params = []
     for name, spec in table.items():
-        _check_name(name, model, where)
+        check_parameter_name(name, model, where)
         lo, hi, scale = _range(spec, name, where)
         p = Parameter(name, lo, hi, scale)
-        _check_domain(p, where)
+        check_parameter_range(p, where)
         params.append(p)
     layers_cond = {p.name.rsplit(".", 1)[0] for p in params if p.field == "conductivity_S_per_m"}
     for p in params:
@@ -258,10 +133,19 @@ class ParameterMap:
     def __init__(self, model: InteriorModel, parameters: Sequence[Parameter]):
         self.model = model
         self.parameters = tuple(parameters)
-        self._salinity = {}
-        for p in self.parameters:
-            if p.field == "salinity_g_per_kg":
-                self._salinity[p.name] = _SalinityConductivity(model, p.name.rsplit(".", 1)[0], self.parameters)
+        if any(p.field in ("salinity_g_per_kg", "temperature_C") for p in self.parameters):
+            self._check_corners()
+
+    def _check_corners(self):
+        """Evaluate the ocean model at the corners of the prior ranges so that bad ranges fail early."""
+        grids = np.meshgrid(*[np.array([p.lo, p.hi]) for p in self.parameters], indexing="ij")
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                self.model.parameter_arrays(self.values([g.ravel() for g in grids]))
+        except ValueError as exc:
+            names = ", ".join(p.name for p in self.parameters)
+            raise ValueError(f"the ocean model rejects part of the prior ranges of {names}: {exc}") from None
 
     def values(self, columns: Sequence[np.ndarray]) -> dict:
         """The ``values`` mapping for :meth:`InteriorModel.sweep_response`.
@@ -274,18 +158,9 @@ class ParameterMap:
         Returns
         -------
         dict
-            ``"LAYER.FIELD" -> ndarray (N,)`` with salinities replaced by conductivities.
+            ``"LAYER.FIELD" -> ndarray (N,)``.
         """
-        out = {}
-        named = {p.name: np.asarray(c, dtype=float) for p, c in zip(self.parameters, columns)}
-        for p in self.parameters:
-            col = named[p.name]
-            if p.field == "salinity_g_per_kg":
-                layer_name = p.name.rsplit(".", 1)[0]
-                out[f"{layer_name}.conductivity_S_per_m"] = self._salinity[p.name](col, named)
-            else:
-                out[p.name] = col
-        return out
+        return {p.name: np.asarray(c, dtype=float) for p, c in zip(self.parameters, columns)}
 
     def responses(self, columns: Sequence[np.ndarray], period_h: np.ndarray, degree: np.ndarray) -> np.ndarray:
         """Modelled R_n for each variant at each measured period and degree.
@@ -310,90 +185,3 @@ class ParameterMap:
             sel = np.flatnonzero(degree == deg)
             out[:, sel] = self.model.sweep_response(values, period_h[sel] * 3600.0, int(deg))
         return out
-
-
-class _SalinityConductivity:
-    """Salinity (g/kg) -> conductivity (S/m) of one layer through ``induct.brine.conductivity``."""
-
-    def __init__(self, model: InteriorModel, layer_name: str, parameters):
-        name = f"{layer_name}.salinity_g_per_kg"
-        try:
-            from induct import brine
-        except ImportError:
-            brine = None
-        self._conductivity = getattr(brine, "conductivity", None)
-        self._freezing = getattr(brine, "freezing_point", None)
-        if self._conductivity is None:
-            raise ValueError(
-                f"{name!r}: salinity as a free parameter is not available: it needs "
-                "induct.brine.conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa), which this "
-                "installation does not provide; vary conductivity_S_per_m instead"
-            )
-        layer = model.layer(layer_name)
-        self.solute = layer.extra.get("solute")
-        if not isinstance(self.solute, str):
-            raise ValueError(f"{name!r}: layer {layer_name!r} needs a solute key (e.g. solute = \"NaCl\") for the brine model")
-        self.temperature_C = layer.extra.get("temperature_C")
-        if self.temperature_C is None and self._freezing is None:
-            raise ValueError(
-                f"{name!r}: layer {layer_name!r} has no temperature_C and induct.brine.freezing_point is not "
-                "available to put it at the freezing point"
-            )
-        self.name = name
-        self.gravity = _surface_gravity(model, name)
-        index = model.layer_names.index(layer_name)
-        self.above = model.layers[:index]
-        self.thickness = {p.name: p for p in parameters if p.field == "thickness_km"}
-        self._check_corners(next(p for p in parameters if p.name == name))
-
-    def _check_corners(self, param: "Parameter"):
-        """Evaluate the brine model at the corners of the prior ranges so that bad ranges fail early."""
-        named = {key: np.array([p.lo, p.hi]) for key, p in self.thickness.items()}
-        grids = np.meshgrid(np.array([param.lo, param.hi]), *named.values(), indexing="ij")
-        named = {key: g.ravel() for key, g in zip(named, grids[1:])}
-        try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                self(grids[0].ravel(), named)
-        except ValueError as exc:
-            raise ValueError(f"{self.name!r}: the brine model rejects part of the prior range: {exc}") from exc
-
-    def pressure_MPa(self, named: Mapping[str, np.ndarray]) -> np.ndarray:
-        """Hydrostatic pressure (MPa) at the top of the layer, sum of rho g h over the layers above (shape (N,))."""
-        p = 0.0
-        for layer in self.above:
-            key = f"{layer.name}.thickness_km"
-            h_km = named[key] if key in self.thickness else layer.thickness_km
-            p = p + layer.extra["density_kg_per_m3"] * self.gravity * np.asarray(h_km) * METRES_PER_KM
-        return np.asarray(p, dtype=float) * 1e-6
-
-    def __call__(self, salinity, named):
-        salinity = np.asarray(salinity, dtype=float)
-        pressure = np.broadcast_to(self.pressure_MPa(named), salinity.shape)
-        if self.temperature_C is not None:
-            temperature = np.full(salinity.shape, float(self.temperature_C))
-        else:
-            temperature = np.asarray(self._freezing(self.solute, salinity, pressure, warn=False), dtype=float)
-        sigma, flags = self._conductivity(self.solute, salinity, temperature, pressure, return_flags=True, warn=False)
-        if np.any(flags):
-            warnings.warn(
-                f"{self.name}: part of the prior range uses brine conductivities extrapolated beyond the "
-                "reference model (see induct.brine flags)",
-                stacklevel=2,
-            )
-        return np.asarray(sigma, dtype=float)
-
-
-def _surface_gravity(model: InteriorModel, name: str) -> float:
-    """Surface gravity (m/s^2) from the layer densities of the reference model."""
-    missing = [layer.name for layer in model.layers if "density_kg_per_m3" not in layer.extra]
-    if missing:
-        raise ValueError(
-            f"{name!r}: the pressure for the brine model needs density_kg_per_m3 on every layer; missing on "
-            f"{', '.join(map(repr, missing))}"
-        )
-    radii = model.radii_m()  # centre outward
-    inner = np.concatenate([[0.0], radii[:-1]])
-    rho = np.array([layer.extra["density_kg_per_m3"] for layer in model.layers[::-1]], dtype=float)
-    mass = float(np.sum(4.0 / 3.0 * np.pi * rho * (radii**3 - inner**3)))
-    return G_SI * mass / radii[-1] ** 2

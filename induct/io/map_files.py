@@ -13,7 +13,8 @@ from datetime import datetime, timezone
 import numpy as np
 
 from induct import __version__
-from induct.planning.maps import _CF_UNITS, QUANTITIES, MapResult
+from induct.model.parameters import FIELDS
+from induct.planning.maps import QUANTITIES, MapResult
 
 __all__ = ["map_dataset", "write_map_netcdf", "write_map_csv", "plot_map", "cf_name", "require_netcdf"]
 
@@ -57,7 +58,7 @@ def map_dataset(result: MapResult):
     for name, spec, vals in ((xname, result.x, result.x_values), (yname, result.y, result.y_values)):
         attrs = {
             "long_name": spec.label.rsplit(" (", 1)[0],
-            "units": _CF_UNITS[spec.unit],
+            "units": FIELDS[spec.field_name].cf_unit,
             "parameter": spec.parameter,
             "spacing": "logarithmic" if spec.log else "linear",
         }

@@ -13,6 +13,7 @@ not included.
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass, field, replace
 from typing import Mapping, Sequence
 
@@ -20,6 +21,8 @@ import numpy as np
 
 from induct.constants import METRES_PER_KM, SECONDS_PER_HOUR
 from induct.model.kernel import add_thin_sheet
+from induct.model.ocean import layer_chemistry, layer_density, layer_radii_m, ocean_sublayers
+from induct.model.parameters import check_parameter_name
 from induct.model.response import (
     amplitude,
     c_response_km,
@@ -30,10 +33,7 @@ from induct.model.response import (
     transfer,
 )
 
-__all__ = ["Layer", "Ionosphere", "InteriorModel", "ModelResponse", "LAYER_FIELDS"]
-
-#: Layer fields that can be varied in sweeps and inversions ("LAYER.FIELD").
-LAYER_FIELDS = ("thickness_km", "conductivity_S_per_m")
+__all__ = ["Layer", "Ionosphere", "InteriorModel", "ModelResponse"]
 
 # Relative tolerance for "thicknesses sum to the radius" when no fill layer is given.
 _SUM_RTOL = 1e-9
@@ -336,17 +336,21 @@ class InteriorModel:
         Parameters
         ----------
         values : mapping of str to array_like
-            ``"LAYER.FIELD"`` -> values, with FIELD one of ``thickness_km`` or
-            ``conductivity_S_per_m``, or ``"ionosphere.conductance_S"``. All
+            ``"LAYER.FIELD"`` -> values, with the names and units of
+            :mod:`induct.model.parameters` (thickness, conductivity, salinity and
+            temperature of a chemistry-defined ocean, ionosphere conductance). All
             arrays broadcast to a common batch shape ``(...)``. A changed
             thickness is absorbed by the fill layer (the one without a
-            thickness); a model without a fill layer cannot vary thicknesses.
+            thickness). A chemistry-defined ocean is recomputed by the one ocean
+            model (:func:`induct.model.ocean.ocean_sublayers`, with the sub-layer
+            count of the scenario's converged profile) whenever its salinity or
+            temperature or any thickness varies; otherwise its profile is reused.
 
         Returns
         -------
-        radii_m : ndarray, shape (..., L)
-            Outer radii from the centre outward (m).
-        conductivity_S_per_m : ndarray, shape (..., L)
+        radii_m : ndarray, shape (..., L')
+            Outer radii from the centre outward (m); L' counts ocean sub-layers.
+        conductivity_S_per_m : ndarray, shape (..., L')
             Conductivities from the centre outward (S/m).
         valid : ndarray of bool, shape (...)
             False where the thicknesses leave the fill layer no room
@@ -354,25 +358,23 @@ class InteriorModel:
         ionosphere_conductance_S : ndarray or None, shape (...)
             The ionosphere's conductance, when the model has one.
         """
-        names = self.layer_names
         parsed = {}
         for key, val in values.items():
-            layer_name, field_name = split_parameter(key)
-            if layer_name == "ionosphere":
-                if self.ionosphere is None or field_name != "conductance_S":
-                    raise ValueError(
-                        f"unknown parameter {key!r}: 'ionosphere.conductance_S' needs an [ionosphere] in the model"
-                    )
-            else:
-                if layer_name not in names:
-                    raise ValueError(f"unknown parameter {key!r}: no layer {layer_name!r} (layers: {', '.join(names)})")
-                if field_name not in LAYER_FIELDS:
-                    raise ValueError(f"unknown parameter {key!r}: field must be one of {', '.join(LAYER_FIELDS)}")
-            parsed[(layer_name, field_name)] = np.asarray(val, dtype=float)
+            parsed[check_parameter_name(key, self)] = np.asarray(val, dtype=float)
         batch = np.broadcast_shapes(*(v.shape for v in parsed.values())) if parsed else ()
+        names = self.layer_names
         nlayer = len(self.layers)
         thick = np.broadcast_to(self.thicknesses_km(), batch + (nlayer,)).copy()
         fill = self.layers[-1].thickness_km is None
+        thickness_varies = False
+        for (layer_name, field_name), val in parsed.items():
+            if field_name == "thickness_km":
+                thick[..., names.index(layer_name)] = val
+                thickness_varies = True
+        if fill:
+            thick[..., -1] = self.radius_km - thick[..., :-1].sum(axis=-1)
+        valid = np.all(thick > 0, axis=-1)
+        safe = np.where(valid[..., None], thick, self.thicknesses_km())
         profiles = self._profiles()
         sigma_cols = []  # per layer: array (..., S_i) of sub-layer conductivities, top first
         for i, layer in enumerate(self.layers):
@@ -380,23 +382,14 @@ class InteriorModel:
             if given is not None:
                 sigma_cols.append(np.broadcast_to(given, batch)[..., None])
             elif profiles[i] is not None:
-                sigma_cols.append(np.broadcast_to(profiles[i], batch + profiles[i].shape))
+                chem_varies = any((layer.name, f) in parsed for f in ("salinity_g_per_kg", "temperature_C"))
+                if chem_varies or thickness_varies:
+                    sigma_cols.append(self._ocean_batch(i, safe, parsed, batch))
+                else:
+                    sigma_cols.append(np.broadcast_to(profiles[i], batch + profiles[i].shape))
             else:
                 sigma_cols.append(np.full(batch + (1,), float(layer.conductivity_S_per_m)))
-        for (layer_name, field_name), val in parsed.items():
-            if layer_name == "ionosphere" or field_name != "thickness_km":
-                continue
-            i = names.index(layer_name)
-            if not fill:
-                raise ValueError(f"{layer_name}.thickness_km cannot vary: the model has no fill layer to absorb it")
-            if i == nlayer - 1:
-                raise ValueError(f"{layer_name}.thickness_km cannot vary: it is the fill layer (it has no thickness)")
-            thick[..., i] = val
-        if fill:
-            thick[..., -1] = self.radius_km - thick[..., :-1].sum(axis=-1)
-        valid = np.all(thick > 0, axis=-1)
         # Sub-layer thicknesses (surface down): each layer split equally among its sub-layers.
-        safe = np.where(valid[..., None], thick, 1.0)
         sub_h = np.concatenate(
             [np.repeat(safe[..., i : i + 1] / col.shape[-1], col.shape[-1], axis=-1) for i, col in enumerate(sigma_cols)],
             axis=-1,
@@ -410,6 +403,36 @@ class InteriorModel:
         if ion is None and self.ionosphere is not None:
             ion = np.full(batch, self.ionosphere.conductance_S)
         return radii, sigma[..., ::-1].copy(), valid, (None if ion is None else np.broadcast_to(ion, batch))
+
+    def _ocean_batch(self, i: int, thick: np.ndarray, parsed: dict, batch: tuple) -> np.ndarray:
+        """Sub-layer conductivities (..., S), top first, of chemistry layer ``i`` for every variant."""
+        layer = self.layers[i]
+        chem = layer_chemistry(layer)
+        nsub = layer.extra["profile"].sublayers
+        salinity = np.broadcast_to(parsed.get((layer.name, "salinity_g_per_kg"), chem["salinity_g_per_kg"]), batch)
+        temp = chem["temperature_C"]
+        temperature = None if temp is None else np.broadcast_to(parsed.get((layer.name, "temperature_C"), temp), batch)
+        # Variants that share thicknesses and chemistry share a profile: compute each once.
+        columns = [thick.reshape(-1, thick.shape[-1]), salinity.reshape(-1, 1)]
+        if temperature is not None:
+            columns.append(temperature.reshape(-1, 1))
+        keys, inverse = np.unique(np.concatenate(columns, axis=1), axis=0, return_inverse=True)
+        nl = thick.shape[-1]
+        radii = layer_radii_m(keys[:, :nl], self.radius_km)
+        density = np.array([layer_density(la) for la in self.layers[::-1]])
+        try:
+            _, _, _, sigma, flags = ocean_sublayers(
+                chem["solute"], keys[:, nl], None if temperature is None else keys[:, nl + 1],
+                chem["temperature_profile"], nl - 1 - i, radii, density, nsub)
+        except ValueError as exc:
+            raise ValueError(f"layer {layer.name!r}: {exc}") from None
+        if np.any(flags):
+            warnings.warn(
+                f"layer {layer.name!r}: some variants use brine conductivities extrapolated beyond the "
+                "reference model (see induct.brine flags)",
+                stacklevel=3,
+            )
+        return sigma[inverse.ravel()].reshape(batch + (nsub,))
 
     def sweep_response(self, values: Mapping[str, np.ndarray], periods_s, degree: int = 1) -> np.ndarray:
         """R_n for many variants at many periods.
@@ -436,14 +459,6 @@ class InteriorModel:
             r = self._with_ionosphere(r, periods, degree, conductance_S=np.asarray(ion)[..., None])
         r[~valid] = np.nan
         return r
-
-
-def split_parameter(key: str) -> tuple[str, str]:
-    """Split ``"LAYER.FIELD"`` at its last dot (ValueError if there is none)."""
-    if not isinstance(key, str) or "." not in key:
-        raise ValueError(f"parameter names are 'LAYER.FIELD' (e.g. 'ocean.thickness_km'), got {key!r}")
-    layer_name, field_name = key.rsplit(".", 1)
-    return layer_name, field_name
 
 
 def _periods_seconds(periods_s, periods_h) -> np.ndarray:

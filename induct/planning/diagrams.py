@@ -105,13 +105,13 @@ def default_families(model: InteriorModel) -> tuple[AxisSpec, AxisSpec]:
     def nice(v):
         return float(f"{v:.6g}")
 
-    first = AxisSpec(f"{layers[0].name}.thickness_km", nice(h / 4), nice(3 * h), 6, False)
-    second = AxisSpec(f"{ocean.name}.conductivity_S_per_m", nice(s / 10), nice(10 * s), 5, True)
+    first = AxisSpec.of(f"{layers[0].name}.thickness_km", nice(h / 4), nice(3 * h), 6, False)
+    second = AxisSpec.of(f"{ocean.name}.conductivity_S_per_m", nice(s / 10), nice(10 * s), 5, True)
     return first, second
 
 
 def _dense(spec: AxisSpec, samples: int) -> np.ndarray:
-    return AxisSpec(spec.parameter, spec.lo, spec.hi, samples, spec.log).values()
+    return spec.param.grid(samples)
 
 
 def amplitude_phase_diagram(

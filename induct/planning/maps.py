@@ -56,7 +56,8 @@ import numpy as np
 
 from induct.constants import SECONDS_PER_HOUR
 from induct.parallel.execution import DEFAULT_TASK_SIZE, run_reduction
-from induct.model.interior import LAYER_FIELDS, InteriorModel, split_parameter
+from induct.model.interior import InteriorModel
+from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, split_parameter
 from induct.model.response import check_degree
 
 __all__ = [
@@ -79,9 +80,6 @@ QUANTITIES = {
     "difference_nT": ("induced-field difference over the pole", "nT", "nT", True),
 }
 
-_FIELD_UNITS = {"thickness_km": "km", "conductivity_S_per_m": "S/m", "conductance_S": "S"}
-_FIELD_WORDS = {"thickness_km": "thickness", "conductivity_S_per_m": "conductivity", "conductance_S": "conductance"}
-_CF_UNITS = {"km": "km", "S/m": "S m-1", "S": "S"}
 _SPEC_HELP = "expected 'LAYER.FIELD=lo:hi:n[:log]' (e.g. 'ice shell.thickness_km=5:60:100' or 'ocean.conductivity_S_per_m=0.1:30:80:log')"
 #: Probabilities of the 1 and 2 sigma levels of a normal distribution (common practice).
 SIGMA_PROBABILITY = {1: 0.682689492137086, 2: 0.954499736103642}
@@ -89,55 +87,41 @@ SIGMA_PROBABILITY = {1: 0.682689492137086, 2: 0.954499736103642}
 
 @dataclass(frozen=True)
 class AxisSpec:
-    """One map axis: a model parameter and its grid.
+    """One map axis: a model parameter (:class:`induct.model.parameters.Parameter`) and its number of grid values.
 
     Attributes
     ----------
-    parameter : str
-        ``"LAYER.FIELD"`` (FIELD ``thickness_km`` or ``conductivity_S_per_m``) or
-        ``"ionosphere.conductance_S"``.
-    lo, hi : float
-        Range, lo < hi, in the unit of FIELD (km, S/m or S).
+    param : Parameter
+        Name (``"LAYER.FIELD"``), range and scale (``"log"`` for logarithmic spacing).
     n : int
         Number of grid values, >= 2.
-    log : bool
-        Logarithmic spacing (lo > 0).
+
+    Examples
+    --------
+    >>> AxisSpec.of("ocean.conductivity_S_per_m", 0.1, 10.0, 3, log=True).values()
+    array([ 0.1,  1. , 10. ])
     """
 
-    parameter: str
-    lo: float
-    hi: float
+    param: Parameter
     n: int
-    log: bool = False
 
-    @property
-    def layer(self) -> str:
-        """The layer name (``"ionosphere"`` for the ionosphere's conductance)."""
-        return split_parameter(self.parameter)[0]
+    @classmethod
+    def of(cls, parameter: str, lo: float, hi: float, n: int, log: bool = False) -> "AxisSpec":
+        """An axis from a name, a range, a count and a spacing."""
+        return cls(Parameter(parameter, lo, hi, "log" if log else "linear"), n)
 
-    @property
-    def field_name(self) -> str:
-        """The field name, e.g. ``"thickness_km"``."""
-        return split_parameter(self.parameter)[1]
-
-    @property
-    def unit(self) -> str:
-        """Unit of the values ("km", "S/m" or "S")."""
-        return _FIELD_UNITS[self.field_name]
-
-    @property
-    def label(self) -> str:
-        """Axis label with unit, e.g. ``"ice shell thickness (km)"``."""
-        return f"{self.layer} {_FIELD_WORDS[self.field_name]} ({self.unit})"
+    parameter = property(lambda self: self.param.name, doc="``\"LAYER.FIELD\"``.")
+    lo = property(lambda self: self.param.lo, doc="Lower end (field unit).")
+    hi = property(lambda self: self.param.hi, doc="Upper end (field unit).")
+    log = property(lambda self: self.param.log, doc="Logarithmic spacing.")
+    layer = property(lambda self: self.param.layer, doc="The layer name (``\"ionosphere\"`` for its conductance).")
+    field_name = property(lambda self: self.param.field, doc="The field name, e.g. ``\"thickness_km\"``.")
+    unit = property(lambda self: self.param.unit, doc="Unit of the values.")
+    label = property(lambda self: self.param.label, doc="Axis label with unit, e.g. ``\"ice shell thickness (km)\"``.")
 
     def values(self) -> np.ndarray:
         """Grid values, shape (n,), in the unit of the field; exact end points."""
-        if self.log:
-            v = np.logspace(math.log10(self.lo), math.log10(self.hi), self.n)
-        else:
-            v = np.linspace(self.lo, self.hi, self.n)
-        v[0], v[-1] = self.lo, self.hi
-        return v
+        return self.param.grid(self.n)
 
     def __str__(self) -> str:
         return f"{self.parameter}={self.lo:g}:{self.hi:g}:{self.n}" + (":log" if self.log else "")
@@ -186,7 +170,7 @@ def parse_axis_spec(text, model: InteriorModel | None = None, what: str = "axis"
             raise ValueError(f"{what} {text!r}: lo and hi must be numbers, got {parts[0]!r} and {parts[1]!r}") from None
         if not re.fullmatch(r"\+?\d+", parts[2]):
             raise ValueError(f"{what} {text!r}: n must be a whole number >= 2, got {parts[2]!r}")
-        spec = AxisSpec(key, lo, hi, int(parts[2]), len(parts) == 4 and parts[3].lower() == "log")
+        spec = AxisSpec.of(key, lo, hi, int(parts[2]), len(parts) == 4 and parts[3].lower() == "log")
     _check_spec(spec, what)
     if model is not None:
         _check_spec_in_model(spec, model, what)
@@ -194,30 +178,13 @@ def parse_axis_spec(text, model: InteriorModel | None = None, what: str = "axis"
 
 
 def _check_spec(spec: AxisSpec, what: str) -> None:
-    layer, fld = split_parameter(spec.parameter)
-    allowed = LAYER_FIELDS + ("conductance_S",) if layer == "ionosphere" else LAYER_FIELDS
-    if fld not in allowed or (layer == "ionosphere" and fld != "conductance_S"):
-        ok = "conductance_S" if layer == "ionosphere" else ", ".join(LAYER_FIELDS)
-        raise ValueError(f"{what} {spec.parameter!r}: unknown field {fld!r}; allowed: {ok}")
-    if not (math.isfinite(spec.lo) and math.isfinite(spec.hi)):
-        raise ValueError(f"{what} {spec.parameter}: lo and hi must be finite, got {spec.lo!r}:{spec.hi!r}")
     if spec.n < 2:
         raise ValueError(f"{what} {spec.parameter}: n must be >= 2 grid values, got {spec.n}")
-    if not spec.lo < spec.hi:
-        raise ValueError(f"{what} {spec.parameter}: lo must be < hi, got lo = {spec.lo:g}, hi = {spec.hi:g}")
-    if spec.log and spec.lo <= 0:
-        raise ValueError(f"{what} {spec.parameter}: a log axis needs lo > 0, got lo = {spec.lo:g}")
-    if fld == "thickness_km" and spec.lo <= 0:
-        raise ValueError(f"{what} {spec.parameter}: thickness must be > 0 km, got lo = {spec.lo:g}")
-    if fld != "thickness_km" and spec.lo < 0:
-        raise ValueError(f"{what} {spec.parameter}: {_FIELD_WORDS[fld]} must be >= 0 {spec.unit}, got lo = {spec.lo:g}")
+    check_parameter_range(spec.param, what)
 
 
 def _check_spec_in_model(spec: AxisSpec, model: InteriorModel, what: str) -> None:
-    try:
-        model.parameter_arrays({spec.parameter: np.array([spec.lo])})
-    except ValueError as exc:
-        raise ValueError(f"{what}: {exc}") from None
+    check_parameter_name(spec.parameter, model, what)
 
 
 def dipole_factor(radius_km: float, altitude_km) -> np.ndarray:

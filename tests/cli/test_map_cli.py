@@ -86,7 +86,7 @@ def test_map_difference_against_a_reference_file(tmp_path, capsys):
     "extra, message",
     [
         (["--x", "crust.thickness_km=1:2:3", "--y", Y], "--x: unknown parameter 'crust.thickness_km'"),
-        (["--x", X, "--y", "ocean.conductivity_S_per_m=0:30:20:log"], "--y ocean.conductivity_S_per_m: a log axis needs lo > 0"),
+        (["--x", X, "--y", "ocean.conductivity_S_per_m=0:30:20:log"], "--y: 'ocean.conductivity_S_per_m': scale = 'log' needs lo > 0"),
         (["--x", X, "--y", Y, "--quantity", "induced_nT"], "needs drive_nT"),
         (["--x", "ice shell.thickness_km=5-60-10", "--y", Y], "malformed"),
     ],

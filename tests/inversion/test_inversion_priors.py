@@ -1,12 +1,16 @@
 """Free parameters: checks naming the field, prior coordinates, salinity through the brine model."""
 
-import warnings
+import tomllib
+from pathlib import Path
 
 import numpy as np
 import pytest
 
 from induct.model.interior import InteriorModel, Layer
-from induct.inversion.priors import G_SI, Parameter, ParameterMap, parse_parameters
+from induct.inversion.priors import Parameter, ParameterMap, parse_parameters
+from induct.io.scenario import parse_scenario
+
+BUNDLED = Path(__file__).resolve().parents[2] / "scenarios"
 
 
 def body(**ocean_extra):
@@ -25,7 +29,7 @@ BAD = [
     ({"mantel.thickness_km": {"range": [1, 2]}}, r"unknown parameter 'mantel.thickness_km': no layer 'mantel'"),
     ({"ocean.thickness": {"range": [1, 2]}}, r"unknown parameter 'ocean.thickness': field must be one of"),
     ({"ocean": {"range": [1, 2]}}, r"parameter names are 'LAYER.FIELD'"),
-    ({"ionosphere.conductance_S": {"range": [1, 2]}}, r"'ionosphere.conductance_S'.*no \[ionosphere\]"),
+    ({"ionosphere.conductance_S": {"range": [1, 2]}}, r"'ionosphere.conductance_S'.*no ionosphere"),
     ({"core.thickness_km": {"range": [1, 2]}}, r"'core.thickness_km' cannot vary: 'core' is the fill layer"),
     ({"ocean.thickness_km": {"range": [50, 50]}}, r"'ocean.thickness_km': empty range: lo = 50 must be < hi = 50"),
     ({"ocean.thickness_km": {"range": [60, 50]}}, r"'ocean.thickness_km': empty range"),
@@ -37,7 +41,6 @@ BAD = [
     ({"ocean.conductivity_S_per_m": {"range": [1, float("inf")]}}, r"range must be finite"),
     ({"ocean.conductivity_S_per_m": {"range": [1, 5], "prior": "x"}}, r"unknown key\(s\) 'prior'"),
     ({"ocean.conductivity_S_per_m": [1, 5]}, r"must be a table"),
-    ({"ocean.salinity_g_per_kg": {"range": [-1, 5]}}, r"salinity_g_per_kg must be >= 0 g/kg"),
     ({}, r"no free parameters"),
     # Ice plus ocean thicker than the room left above the fixed 825 km mantle for every combination.
     ({"ice shell.thickness_km": {"range": [100, 200]}, "ocean.thickness_km": {"range": [700, 800]}},
@@ -67,50 +70,64 @@ def test_grid_cells_have_equal_prior_mass():
     assert p.unit == "S/m" and q.unit == "km"
 
 
-def test_salinity_maps_through_the_brine_model():
-    # Salinity -> conductivity with induct.brine at the freezing point and the hydrostatic pressure at the
-    # top of the ocean, p = rho_ice g h_ice with g = G M / R^2 (thin-shell approximation, common practice).
-    brine = pytest.importorskip("induct.brine")
-    if not hasattr(brine, "conductivity"):
-        pytest.skip("induct.brine.conductivity not available")
-    model = body(solute="NaCl")
+def chemistry_scenario(salinity=50.0, ice_km=20.0, solute="MgSO4", extra=""):
+    """The bundled brine-ocean moon with its chemistry changed (parsed like any scenario file)."""
+    doc = tomllib.loads((BUNDLED / "ilmare_brine.toml").read_text())
+    doc["layers"][0]["thickness_km"] = ice_km
+    doc["layers"][1].update(salinity_g_per_kg=salinity, solute=solute)
+    return parse_scenario(doc)
+
+
+def test_chemistry_ocean_same_response_through_inversion_and_respond():
+    # One ocean model: the inversion's path (ParameterMap -> InteriorModel.sweep_response, ocean recomputed
+    # because salinity and a thickness are free) and the forward path (respond: the scenario's converged
+    # profile) must agree to 1e-12 at the scenario's own values (requirement of the layout; identity check).
+    sc = chemistry_scenario()
     params = parse_parameters({"ice shell.thickness_km": {"range": [5, 40]},
-                               "ocean.salinity_g_per_kg": {"range": [5, 80], "scale": "log"}}, model)
-    pmap = ParameterMap(model, params)
-    h = np.array([5.0, 20.0, 40.0])
-    s = np.array([10.0, 35.0, 70.0])
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        got = pmap.values([h, s])["ocean.conductivity_S_per_m"]
-        radii = np.array([600.0, 1425.0, 1520.0, 1540.0]) * 1e3
-        rho = np.array([5500.0, 3300.0, 1040.0, 920.0])
-        mass = np.sum(4 / 3 * np.pi * rho * (radii**3 - np.concatenate([[0.0], radii[:-1]]) ** 3))
-        p = 920.0 * G_SI * mass / radii[-1] ** 2 * h * 1e3 * 1e-6
-        want = brine.conductivity("NaCl", s, brine.freezing_point("NaCl", s, p), p)
-        assert "ocean.salinity_g_per_kg" not in pmap.values([h, s])
-    np.testing.assert_allclose(got, want, rtol=1e-12)
+                               "ocean.salinity_g_per_kg": {"range": [5, 80], "scale": "log"}}, sc.model)
+    pmap = ParameterMap(sc.model, params)
+    periods = np.array([6.06, 12.12, 84.7])
+    via_inversion = pmap.responses([np.array([20.0]), np.array([50.0])], periods, np.ones(3, dtype=int))[0]
+    via_respond = sc.model.response(periods_h=periods).response
+    rel = np.abs(via_inversion - via_respond) / np.abs(via_respond)
+    assert rel.max() < 1e-12, (periods[np.argmax(rel)], via_inversion, via_respond)
 
 
-def test_salinity_needs_a_solute_and_both_cannot_be_free():
-    pytest.importorskip("induct.brine")
-    with pytest.raises(ValueError, match="needs a solute key"):
-        ParameterMap(body(), parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 80]}}, body()))
+def test_salinity_and_thickness_variants_match_a_reparsed_scenario():
+    # A variant of the sweep equals the forward run of a scenario written with those values, to the ocean
+    # profile's convergence tolerance (sub-layer counts may differ by a doubling; CONVERGENCE_RTOL = 1e-6).
+    base = chemistry_scenario()
+    params = parse_parameters({"ice shell.thickness_km": {"range": [5, 40]},
+                               "ocean.salinity_g_per_kg": {"range": [5, 80], "scale": "log"}}, base.model)
+    pmap = ParameterMap(base.model, params)
+    periods = np.array([6.06, 12.12, 84.7])
+    for ice, sal in [(8.0, 12.0), (35.0, 75.0)]:
+        got = pmap.responses([np.array([ice]), np.array([sal])], periods, np.ones(3, dtype=int))[0]
+        want = chemistry_scenario(sal, ice).model.response(periods_h=periods).response
+        rel = np.abs(got - want) / np.abs(want)
+        assert rel.max() < 5e-6, (ice, sal, rel.max())
+
+
+def test_ice_thickness_alone_changes_the_ocean_pressure():
+    # Varying only the ice thickness must recompute the chemistry-defined ocean (its pressure and freezing
+    # temperature change), not reuse the profile of the reference thickness.
+    base = chemistry_scenario()
+    periods = np.array([12.12])
+    swept = base.model.sweep_response({"ice shell.thickness_km": np.array([35.0])}, periods * 3600.0)[0, 0]
+    want = chemistry_scenario(ice_km=35.0).model.response(periods_h=periods).response[0]
+    assert abs(swept - want) / abs(want) < 5e-6
+
+
+def test_salinity_needs_a_chemistry_layer_and_both_cannot_be_free():
+    with pytest.raises(ValueError, match="only a layer defined by its chemistry"):
+        parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 80]}}, body())
+    sc = chemistry_scenario()
     with pytest.raises(ValueError, match="salinity and conductivity of one layer cannot both be free"):
         parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 80]},
-                          "ocean.conductivity_S_per_m": {"range": [1, 5]}}, body())
+                          "ocean.conductivity_S_per_m": {"range": [1, 5]}}, sc.model)
 
 
-def test_salinity_without_the_brine_model_is_a_clear_error(monkeypatch):
-    import induct.brine as brine
-
-    monkeypatch.delattr(brine, "conductivity")
-    model = body(solute="NaCl")
-    with pytest.raises(ValueError, match="salinity as a free parameter is not available"):
-        ParameterMap(model, parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 80]}}, model))
-
-
-def test_salinity_range_the_brine_model_rejects_fails_early():
-    pytest.importorskip("induct.brine")
-    model = body(solute="NaCl")
-    with pytest.raises(ValueError, match="'ocean.salinity_g_per_kg': the brine model rejects part of the prior range"):
-        ParameterMap(model, parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 900]}}, model))
+def test_salinity_range_the_ocean_model_rejects_fails_early():
+    sc = chemistry_scenario()
+    with pytest.raises(ValueError, match="the ocean model rejects part of the prior ranges of ocean.salinity_g_per_kg"):
+        ParameterMap(sc.model, parse_parameters({"ocean.salinity_g_per_kg": {"range": [5, 900]}}, sc.model))

@@ -141,7 +141,7 @@ def test_sweep_response_matches_model_copies():
         ("ocean.colour", "field must be one of"),
         ("ocean", "LAYER.FIELD"),
         ("core.thickness_km", "fill layer"),
-        ("ionosphere.conductance_S", r"needs an \[ionosphere\]"),
+        ("ionosphere.conductance_S", r"the model has no ionosphere"),
     ],
 )
 def test_parameter_names_checked(key, match):

@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from induct.model.ocean import G, gravity_m_per_s2, hydrostatic_pressure_MPa
+from induct.constants import G
+from induct.model.ocean import gravity_m_per_s2, hydrostatic_pressure_MPa
 
 
 def test_uniform_body_pressure_hand_calculation():

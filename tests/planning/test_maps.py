@@ -200,13 +200,13 @@ def test_impossible_cells_are_nan_with_a_warning(ilmare):
         ("ice shell.thickness_km=a:60:10", "must be numbers"),
         ("ice shell.thickness_km=5:60:2.5", "whole number"),
         ("ice shell.thickness_km=5:60:1", "n must be >= 2"),
-        ("ice shell.thickness_km=60:5:10", "lo must be < hi"),
-        ("ice shell.thickness_km=5:5:10", "lo must be < hi"),
+        ("ice shell.thickness_km=60:5:10", "empty range: lo = 60 must be < hi = 5"),
+        ("ice shell.thickness_km=5:5:10", "empty range: lo = 5 must be < hi = 5"),
         ("ice shell.thickness_km=5:inf:10", "finite"),
-        ("ocean.conductivity_S_per_m=0:30:10:log", "log axis needs lo > 0"),
-        ("ocean.conductivity_S_per_m=-1:30:10:log", "log axis needs lo > 0"),
+        ("ocean.conductivity_S_per_m=0:30:10:log", "scale = 'log' needs lo > 0"),
+        ("ocean.conductivity_S_per_m=-1:30:10:log", "conductivity_S_per_m must be >= 0 S/m"),
         ("ocean.conductivity_S_per_m=-1:30:10", "must be >= 0"),
-        ("ice shell.thickness_km=0:60:10", "thickness must be > 0"),
+        ("ice shell.thickness_km=0:60:10", "thickness_km must be > 0 km"),
         ("ocean.salinity=1:2:3", "unknown field 'salinity'"),
         ("crust.thickness_km=5:60:10", "no layer 'crust'"),
         ("core.thickness_km=5:60:10", "fill layer"),
@@ -225,7 +225,7 @@ def test_axis_spec_values_and_other_argument_errors(ilmare):
     assert v[0] == 5.0 and v[-1] == 60.0 and v.size == 12
     np.testing.assert_allclose(np.diff(v), 5.0, rtol=1e-13)
     log = parse_axis_spec(" ocean.conductivity_S_per_m = 0.1 : 10 : 5 : log ")
-    assert log == AxisSpec("ocean.conductivity_S_per_m", 0.1, 10.0, 5, True)
+    assert log == AxisSpec.of("ocean.conductivity_S_per_m", 0.1, 10.0, 5, True)
     np.testing.assert_allclose(log.values(), [0.1, 0.31622776601683794, 1.0, 3.1622776601683795, 10.0], rtol=1e-14)
     assert log.label == "ocean conductivity (S/m)"
     with pytest.raises(ValueError, match="different parameters"):

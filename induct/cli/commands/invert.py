@@ -41,13 +41,14 @@ def register(subparsers):
 def run(args) -> int:
     from induct.inversion.grid import DEFAULT_LIST_CAP, invert
     from induct.io.measurements import load_measurements
-    from induct.inversion.priors import load_parameter_table, parse_parameters
+    from induct.inversion.priors import parse_parameters
+    from induct.io.toml import read_parameter_table
     from induct.io.scenario import load_scenario
 
     scenario = load_scenario(args.scenario)
     data = load_measurements(args.data)
     if args.params:
-        table, where = load_parameter_table(args.params), f"{args.params}"
+        table, where = read_parameter_table(args.params), f"{args.params}"
     else:
         table, where = scenario.raw.get("invert"), f"{scenario.path or scenario.name}: [invert]"
         if not table:
