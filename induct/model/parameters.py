@@ -36,6 +36,7 @@ __all__ = [
     "check_parameter_name",
     "check_parameter_range",
     "parameter_label",
+    "parameter_value",
 ]
 
 
@@ -305,3 +306,28 @@ def check_parameter_range(p: Parameter, where: str = "") -> None:
         )
     if p.log and p.lo <= 0:
         raise ValueError(f"{pre}{p.name!r}: scale = 'log' needs lo > 0, got {p.lo:g}")
+
+
+def parameter_value(model, key: str) -> float:
+    """The model's own value of ``"LAYER.FIELD"`` in the field's unit (NaN where the model has none).
+
+    The fill layer's thickness is NaN (it has none of its own); a chemistry-defined ocean's
+    conductivity is the mean of its profile.
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> parameter_value(load_scenario("ilmare").model, "ocean.thickness_km")
+    95.0
+    """
+    layer_name, field_name = split_parameter(key)
+    if layer_name == "ionosphere":
+        return float("nan") if model.ionosphere is None else float(model.ionosphere.conductance_S)
+    layer = model.layer(layer_name)
+    if field_name in ("thickness_km", "conductivity_S_per_m"):
+        value = getattr(layer, field_name)
+    else:
+        value = (layer.extra or {}).get(field_name)
+    if value is None or isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+        return float("nan")
+    return float(value)

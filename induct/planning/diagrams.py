@@ -23,7 +23,8 @@ import numpy as np
 
 from induct.constants import SECONDS_PER_HOUR
 from induct.model.interior import InteriorModel
-from induct.planning.maps import AxisSpec, base_value, fixed_parameters, parse_axis_spec
+from induct.model.parameters import parameter_value
+from induct.planning.maps import AxisSpec, fixed_parameters, parse_axis_spec
 from induct.model.response import check_degree
 
 __all__ = [
@@ -181,7 +182,7 @@ def amplitude_phase_diagram(
         degree=n,
         body=model.name,
         fixed=fixed_parameters(model, (first.parameter, second.parameter)),
-        base_point=(base_value(model, first.parameter), base_value(model, second.parameter)),
+        base_point=(parameter_value(model, first.parameter), parameter_value(model, second.parameter)),
     )
 
 

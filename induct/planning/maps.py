@@ -57,7 +57,7 @@ import numpy as np
 from induct.constants import SECONDS_PER_HOUR
 from induct.parallel.execution import DEFAULT_TASK_SIZE, run_reduction
 from induct.model.interior import InteriorModel
-from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, split_parameter
+from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, parameter_value, split_parameter
 from induct.model.response import check_degree
 
 __all__ = [
@@ -242,15 +242,6 @@ def fixed_parameters(model: InteriorModel, varied=()) -> list[str]:
         ion = model.ionosphere
         out.append(f"ionosphere {fmt(ion.conductance_S, 4)} S at {fmt(ion.altitude_km, 4)} km")
     return out
-
-
-def base_value(model: InteriorModel, parameter: str) -> float:
-    """The model's own value of ``"LAYER.FIELD"`` (km, S/m or S)."""
-    layer, fld = split_parameter(parameter)
-    if layer == "ionosphere":
-        return float(model.ionosphere.conductance_S)
-    value = getattr(model.layer(layer), fld)
-    return float("nan") if value is None else float(value)
 
 
 @dataclass
@@ -551,7 +542,7 @@ def feasibility_map(
         body=model.name,
         radius_km=model.radius_km,
         fixed=fixed_parameters(model, (x.parameter, y.parameter)),
-        base_point=(base_value(model, x.parameter), base_value(model, y.parameter)),
+        base_point=(parameter_value(model, x.parameter), parameter_value(model, y.parameter)),
         altitude_km=altitude_km,
         drive_nT=drive_nT,
         reference=(reference_label or reference.name) if quantity == "difference_nT" else None,
