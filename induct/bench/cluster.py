@@ -1,8 +1,8 @@
 """Benchmark of the chunked execution layer: one process versus a local Dask cluster.
 
-The workload is a grid-misfit reduction (minimum chi-square, its index and a
-chi-square histogram) over random variants of a 4-layer body, the same kind of
-work as an inversion grid; only the small partial results travel back.
+The workload is the inversion's own grid task (:class:`induct.inversion.grid.GridTask`:
+minimum chi-square, its cell, marginal and pairwise posterior masses) over variants of
+a 4-layer body; only the small partial results travel back.
 """
 
 from __future__ import annotations
@@ -12,13 +12,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from induct.constants import SECONDS_PER_HOUR
+from induct.inversion.grid import GridPartial, GridTask, combine_partials, make_grid_setup
+from induct.inversion.priors import ParameterMap
+from induct.io.measurements import Measurements
+from induct.model.parameters import Parameter
 
 __all__ = [
     "bench_interior_model",
-    "MisfitPartial",
-    "combine_misfit",
-    "GridMisfitTask",
     "bench_misfit_task",
     "misfit_difference",
     "DistributedBenchResult",
@@ -44,149 +44,45 @@ def bench_interior_model():
     return InteriorModel(1540.0, layers, name="Ilmare")
 
 
-@dataclass
-class MisfitPartial:
-    """Partial reduction of :class:`GridMisfitTask` over some grid points (merge with :func:`combine_misfit`).
+def bench_misfit_task(models: int, periods: int = 4, seed: int = 20261201) -> GridTask:
+    """The inversion's own grid task (:class:`induct.inversion.grid.GridTask`) on :func:`bench_interior_model`.
 
-    Attributes
-    ----------
-    count, invalid : int
-        Valid grid points, and points whose layers leave the fill layer no room.
-    min_chi2 : float
-        Smallest chi-square (inf if no valid point).
-    argmin : int
-        Flat grid index of ``min_chi2`` (the smallest index on ties; -1 if none).
-    chi2_hist : ndarray of int64, shape (B,)
-        Counts of chi-square in the task's bins.
-    marginals : tuple of ndarray, shape (n_k,) each
-        Per axis k, the sum of exp(-chi2/2) over all other axes (unnormalised marginal likelihood).
-    """
-
-    count: int
-    invalid: int
-    min_chi2: float
-    argmin: int
-    chi2_hist: np.ndarray
-    marginals: tuple
-
-
-def combine_misfit(a: MisfitPartial, b: MisfitPartial) -> MisfitPartial:
-    """Merge two partial reductions (associative and commutative up to rounding of the marginal sums)."""
-    if (b.min_chi2, b.argmin if b.argmin >= 0 else np.inf) < (a.min_chi2, a.argmin if a.argmin >= 0 else np.inf):
-        best, arg = b.min_chi2, b.argmin
-    else:
-        best, arg = a.min_chi2, a.argmin
-    return MisfitPartial(
-        count=a.count + b.count,
-        invalid=a.invalid + b.invalid,
-        min_chi2=best,
-        argmin=arg,
-        chi2_hist=a.chi2_hist + b.chi2_hist,
-        marginals=tuple(x + y for x, y in zip(a.marginals, b.marginals)),
-    )
-
-
-class GridMisfitTask:
-    """Task for :func:`induct.parallel.execution.run_reduction`: chi-square of a grid of model variants.
-
-    Flat index i is the grid point ``numpy.unravel_index(i, shape)`` (C order)
-    of the axes; each task evaluates R_n of its points at the P periods
-    through :meth:`InteriorModel.sweep_response` and returns a
-    :class:`MisfitPartial`, never the responses themselves.
-
-    Parameters
-    ----------
-    model : InteriorModel
-        Base interior.
-    axes : mapping of str to array_like
-        ``"LAYER.FIELD"`` -> grid values (shape (n_k,) each).
-    periods_s : array_like, shape (P,)
-        Periods (s).
-    observed : array_like of complex, shape (P,)
-        Measured R_n.
-    sigma : array_like, shape (P,)
-        Standard error of the real and of the imaginary part of R_n (dimensionless), > 0.
-    chi2_edges : array_like, shape (B + 1,)
-        Histogram bin edges of chi-square, increasing.
-    degree : int
-        Degree n.
-    """
-
-    def __init__(self, model, axes, periods_s, observed, sigma, chi2_edges, degree: int = 1):
-        self.model = model
-        self.names = tuple(axes)
-        self.axes = tuple(np.asarray(axes[k], dtype=float) for k in self.names)
-        self.shape = tuple(a.size for a in self.axes)
-        self.periods_s = np.asarray(periods_s, dtype=float)
-        self.observed = np.asarray(observed, dtype=complex)
-        self.sigma = np.asarray(sigma, dtype=float)
-        self.chi2_edges = np.asarray(chi2_edges, dtype=float)
-        self.degree = int(degree)
-
-    @property
-    def size(self) -> int:
-        """Number of grid points."""
-        return int(np.prod(self.shape))
-
-    def chi2(self, start: int, stop: int):
-        """Flat indices (shape (M,)) and chi-square (shape (M,), NaN where invalid) of points start..stop-1."""
-        flat = np.arange(start, stop)
-        index = np.unravel_index(flat, self.shape)
-        values = {name: axis[i] for name, axis, i in zip(self.names, self.axes, index)}
-        r = self.model.sweep_response(values, self.periods_s, self.degree)
-        return flat, np.sum(np.abs(r - self.observed) ** 2 / self.sigma**2, axis=-1)
-
-    def __call__(self, start: int, stop: int) -> MisfitPartial:
-        flat, chi2 = self.chi2(start, stop)
-        ok = np.isfinite(chi2)
-        index = np.unravel_index(flat[ok], self.shape)
-        good = chi2[ok]
-        weight = np.exp(-0.5 * good)
-        if good.size:
-            k = int(np.argmin(good))
-            best, arg = float(good[k]), int(flat[ok][k])
-        else:
-            best, arg = np.inf, -1
-        return MisfitPartial(
-            count=int(good.size),
-            invalid=int(flat.size - good.size),
-            min_chi2=best,
-            argmin=arg,
-            chi2_hist=np.histogram(good, self.chi2_edges)[0].astype(np.int64),
-            marginals=tuple(np.bincount(i, weights=weight, minlength=n) for i, n in zip(index, self.shape)),
-        )
-
-
-def bench_misfit_task(models: int, periods: int = 4, seed: int = 20261201) -> GridMisfitTask:
-    """A :class:`GridMisfitTask` on :func:`bench_interior_model` with about ``models`` grid points.
-
-    Axes: ice thickness 5-60 km (10 values), ocean thickness 10-200 km (10),
-    ocean conductivity 0.1-30 S/m (log-spaced, ceil(models / 100) values);
-    ``periods`` periods log-spaced over 1-1000 h. The "measured" responses are
-    those of the base model with Gaussian noise of 0.01 (fixed seed).
+    About ``models`` grid cells: ice thickness 5-60 km (10 cells), ocean thickness 10-200 km (10),
+    ocean conductivity 0.1-30 S/m (log-uniform, ceil(models / 100) cells); ``periods`` periods
+    log-spaced over 1-1000 h. The "measured" responses are those of the base model with Gaussian
+    noise of 0.01 on their real and imaginary parts (fixed seed).
     """
     if models < 1 or periods < 1:
         raise ValueError(f"models and periods must be >= 1, got {models} and {periods}")
     model = bench_interior_model()
-    periods_s = np.logspace(0, 3, periods) * SECONDS_PER_HOUR
+    period_h = np.logspace(0, 3, periods)
     rng = np.random.default_rng(seed)
-    sigma = np.full(periods, 0.01)
-    observed = model.response(periods_s).response + sigma * (rng.standard_normal(periods) + 1j * rng.standard_normal(periods))
-    axes = {
-        "ice.thickness_km": np.linspace(5.0, 60.0, 10),
-        "ocean.thickness_km": np.linspace(10.0, 200.0, 10),
-        "ocean.conductivity_S_per_m": np.logspace(-1, np.log10(30.0), -(-models // 100)),
-    }
-    edges = np.concatenate([[0.0], np.logspace(-1, 6, 57), [np.inf]])
-    return GridMisfitTask(model, axes, periods_s, observed, sigma, edges)
+    sigma = 0.01
+    observed = model.response(periods_h=period_h).response + sigma * (
+        rng.standard_normal(periods) + 1j * rng.standard_normal(periods))
+    measurements = Measurements(
+        period_h=period_h,
+        degree=np.ones(periods, dtype=int),
+        polar=np.zeros(periods, dtype=bool),
+        values=np.column_stack([observed.real, observed.imag]),
+        covariance=np.broadcast_to(np.eye(2) * sigma**2, (periods, 2, 2)).copy(),
+        source="benchmark",
+    )
+    params = [
+        Parameter("ice.thickness_km", 5.0, 60.0),
+        Parameter("ocean.thickness_km", 10.0, 200.0),
+        Parameter("ocean.conductivity_S_per_m", 0.1, 30.0, "log"),
+    ]
+    setup = make_grid_setup(ParameterMap(model, params), measurements, (10, 10, -(-models // 100)))
+    return GridTask(setup)
 
 
-def misfit_difference(a: MisfitPartial, b: MisfitPartial) -> float:
-    """Largest relative difference between two reductions (inf if counts, histogram or best index differ)."""
-    if (a.count, a.invalid, a.argmin) != (b.count, b.invalid, b.argmin) or not np.array_equal(a.chi2_hist, b.chi2_hist):
+def misfit_difference(a: GridPartial, b: GridPartial) -> float:
+    """Largest relative difference between two grid reductions (inf if the counts or the best cell differ)."""
+    if (a.n_valid, a.n_cells, a.best_index) != (b.n_valid, b.n_cells, b.best_index):
         return np.inf
-    worst = abs(a.min_chi2 - b.min_chi2) / max(abs(a.min_chi2), np.finfo(float).tiny)
-    for x, y in zip(a.marginals, b.marginals):
+    worst = abs(a.ref - b.ref) / max(abs(a.ref), np.finfo(float).tiny)
+    for x, y in list(zip(a.marginals, b.marginals)) + [(a.maps[k], b.maps[k]) for k in a.maps]:
         scale = np.maximum(np.abs(x), np.finfo(float).tiny)
         worst = max(worst, float(np.max(np.abs(x - y) / scale)))
     return float(worst)
@@ -238,7 +134,7 @@ def run_distributed_benchmark(
 ) -> DistributedBenchResult:
     """Throughput of a grid-misfit reduction in one process and on a local Dask cluster.
 
-    The same :class:`GridMisfitTask` (``model_periods / periods`` models,
+    The inversion's grid task (:func:`bench_misfit_task` (``model_periods / periods`` models,
     ``periods`` periods each, chunks of ``chunk_models`` models) runs through
     :func:`induct.parallel.execution.run_reduction` in-process and on a local cluster
     of ``workers`` single-threaded worker processes (started once; its
@@ -265,7 +161,7 @@ def run_distributed_benchmark(
     split = max(1, small.size // 100)  # the small grid again, as 100 tasks: the cost per task
 
     def run(task, backend, chunk=chunk_models):
-        return run_reduction(task, task.size, chunk_size=chunk, combine=combine_misfit, backend=backend)
+        return run_reduction(task, task.size, chunk_size=chunk, combine=combine_partials, backend=backend)
 
     local = InProcess()
     run(small, local)  # warm caches

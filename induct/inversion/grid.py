@@ -189,6 +189,11 @@ class GridTask:
         self.setup = setup
         self.precomputed = precomputed
 
+    @property
+    def size(self) -> int:
+        """Number of grid cells."""
+        return self.setup.total
+
     def __call__(self, start: int, stop: int) -> GridPartial:
         """Evaluate cells ``start`` to ``stop - 1`` and return their :class:`GridPartial`."""
         s = self.setup

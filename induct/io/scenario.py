@@ -24,9 +24,10 @@ and inversion settings::
     [drive]
     periods_h = [12.1, 6.05]
 
-Unknown keys are rejected (a misspelt key would otherwise be silently ignored),
-except in tables that later steps own (``[drive]`` lines, ``[invert]``,
-``[flyby]``, ``[map]``), which are kept in :attr:`Scenario.raw`.
+Unknown tables and keys are rejected (a misspelt key would otherwise be silently
+ignored); the ``[drive]`` lines and the ``[invert]`` table are checked by the modules
+that read them (:mod:`induct.field.drive`, :mod:`induct.inversion.priors`) and kept
+in :attr:`Scenario.raw`.
 """
 
 from __future__ import annotations
@@ -43,7 +44,7 @@ from induct.model.interior import Ionosphere, InteriorModel, Layer
 
 __all__ = ["Scenario", "load_scenario", "parse_scenario", "bundled_scenarios"]
 
-_TOP_KEYS = {"body", "layers", "ionosphere", "drive", "invert", "flyby", "map", "notes"}
+_TOP_KEYS = {"body", "layers", "ionosphere", "drive", "invert", "notes"}
 _BODY_KEYS = {"name", "radius_km", "description", "parent", "epoch"}
 _LAYER_CORE_KEYS = {"name", "thickness_km", "conductivity_S_per_m"}
 # Keys a layer may carry for other modules (ocean chemistry, densities).

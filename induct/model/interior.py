@@ -20,7 +20,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from induct.constants import METRES_PER_KM, SECONDS_PER_HOUR
-from induct.model.kernel import add_thin_sheet
+from induct.model.kernel import add_thin_sheet, layered_response
 from induct.model.ocean import layer_chemistry, layer_density, layer_radii_m, ocean_sublayers
 from induct.model.parameters import check_parameter_name
 from induct.model.response import (
@@ -454,7 +454,9 @@ class InteriorModel:
         radii, sigma, valid, ion = self.parameter_arrays(values)
         if np.any(~np.isfinite(sigma)[..., 1:]) or np.any(np.isnan(sigma)) or np.any(sigma < 0):
             raise ValueError("conductivity values must be >= 0 and finite (inf only in the innermost layer)")
-        r = transfer(radii[..., None, :], sigma[..., None, :], periods, degree)
+        # The radii are built here (increasing, positive) and the conductivities checked above:
+        # the unchecked kernel is called directly.
+        r = layered_response(radii[..., None, :], sigma[..., None, :], 2.0 * np.pi / periods, check_degree(degree))
         if ion is not None:
             r = self._with_ionosphere(r, periods, degree, conductance_S=np.asarray(ion)[..., None])
         r[~valid] = np.nan

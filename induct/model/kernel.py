@@ -116,6 +116,10 @@ def _series_terms(n: int, abs_w_max: float) -> int:
     return k
 
 
+#: Series terms per degree, enough for every |z| below that degree's SERIES_RADIUS.
+_SERIES_TERMS = [_series_terms(n, float(SERIES_RADIUS[min(n, len(SERIES_RADIUS) - 1)]) ** 2) for n in range(MAX_DEGREE + 2)]
+
+
 def _horner(x: np.ndarray, coef_high_first) -> np.ndarray:
     """sum_k coef[k] x**(N-k) by Horner's rule (coefficients from the highest power down)."""
     if len(coef_high_first) == 1:
@@ -158,7 +162,9 @@ def _regular_small(z: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
     """Series branch: (2z i_n(z), alpha(z)) for |z| < SERIES_RADIUS[n] (no exponential factor)."""
     w = z * z
     half_w = 0.5 * w
-    nterms = _series_terms(n, float(np.max(np.abs(w))))
+    # The term count depends only on the degree (the branch's largest |w|), never on the batch,
+    # so that a model's response does not depend on the other models computed with it.
+    nterms = _SERIES_TERMS[n]
     s_n = _series(half_w, n, nterms)
     s_n1 = _series(half_w, n + 1, nterms)
     dfact = float(np.prod(np.arange(1, 2 * n + 2, 2)))
@@ -310,9 +316,12 @@ def _thin_layer(rho_a, r_a, r_b, kappa2, n):
     rho_b = np.zeros_like(rho_a, dtype=complex)
     if not ok.any():
         return rho_b, ok
-    nsteps = int(steps[ok].max())
+    # Each element takes exactly its own number of steps (elements that are done stay frozen), so
+    # its result does not depend on the other elements of the batch.
+    own = steps[ok]
+    nsteps = int(own.max())
     rho_a, r_a, r_b, h, kappa2 = rho_a[ok], r_a[ok], r_b[ok], h[ok], kappa2[ok]
-    dr = h / nsteps
+    dr = h / own
     c = kappa2 / two_n1
 
     def rhs(r, u):
@@ -326,9 +335,10 @@ def _thin_layer(rho_a, r_a, r_b, kappa2, n):
         k1 = rhs(r, u)
         k2 = rhs(r + 0.5 * dr, u + 0.5 * dr * k1)
         k3 = rhs(r + 0.5 * dr, u + 0.5 * dr * k2)
-        r = r_a + (k + 1) * dr
-        k4 = rhs(r, u + dr * k3)
-        u = u + dr / 6.0 * (k1 + 2.0 * k2 + 2.0 * k3 + k4)
+        r_next = r_a + np.minimum(k + 1, own) * dr
+        k4 = rhs(r_next, u + dr * k3)
+        u = np.where(k < own, u + dr / 6.0 * (k1 + 2.0 * k2 + 2.0 * k3 + k4), u)
+        r = r_next
     rho_b[ok] = u / (r_b / r_a) ** two_n1
     return rho_b, ok
 
