@@ -287,7 +287,11 @@ def resolve_chemistry_layers(layers, body: dict, where: str, periods_h=None):
         lw = f"{where}: layer {layer.name!r}"
         solute = layer.extra.get("solute")
         if solute is None:
-            raise ValueError(f"{lw}: give solute (e.g. 'seawater', 'NaCl', 'MgSO4', 'KCl') with salinity_g_per_kg")
+            raise ValueError(f"{lw}: give solute (one of {', '.join(brine.SOLUTES)}) with salinity_g_per_kg")
+        try:
+            solute = brine.get_solute(solute).name  # canonical name from the solute registry
+        except ValueError as exc:
+            raise ValueError(f"{lw}: {exc}") from exc
         salinity = layer.extra["salinity_g_per_kg"]
         k = nlayer - 1 - i  # index in the centre-outward arrays
         r_top, r_bot = radii[k], (radii[k - 1] if k > 0 else 0.0)
