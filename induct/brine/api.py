@@ -11,24 +11,16 @@ from __future__ import annotations
 
 import numpy as np
 
-from induct.brine import extrapolation
-from induct.brine import freezing
 from induct.brine import limits
-from induct.brine import solutions
 from induct.brine.flags import ExtrapolationFlag, warn_if_flagged
+from induct.brine.registry import SOLUTES, get_solute
 
-#: Supported solutes. "seawater": Practical Salinity (PSS-78); others: g solute / kg solution.
-SOLUTES = ("seawater", "NaCl", "MgSO4", "KCl")
-_ALIASES = {s.lower(): s for s in SOLUTES}
+__all__ = ["SOLUTES", "FREEZING_TOLERANCE_K", "conductivity", "freezing_point", "get_solute",
+           "ocean_conductivity_profile"]
+
 #: Tolerance (K) for "temperature below the freezing point": a temperature taken
 #: from freezing_point() itself must pass.
 FREEZING_TOLERANCE_K = 1e-6
-
-
-def _solute(solute):
-    if not isinstance(solute, str) or solute.lower() not in _ALIASES:
-        raise ValueError(f"solute must be one of {', '.join(SOLUTES)}; got {solute!r}")
-    return _ALIASES[solute.lower()]
 
 
 def _finite(name, value):
@@ -46,36 +38,26 @@ def _range(name, arr, lo, hi, unit, what=""):
         raise ValueError(f"{name}={v:g} is outside the allowed range [{lo:g}, {hi:g}] {unit}{what}")
 
 
-def _salinity_unit(solute):
-    return "(Practical Salinity)" if solute == "seawater" else "g/kg"
-
-
 def _check_common(solute, salinity_g_per_kg, pressure_MPa):
-    solute = _solute(solute)
+    """The solute's record and the checked salinity and pressure arrays."""
+    rec = get_solute(solute)
     s = _finite("salinity_g_per_kg", salinity_g_per_kg)
     p = _finite("pressure_MPa", pressure_MPa)
-    _range("pressure_MPa", p, 0.0, limits.P_MAX_MPA, "MPa (sea pressure)")
+    p_lo, p_hi = rec.limits.pressure_MPa
+    _range("pressure_MPa", p, p_lo, p_hi, "MPa (sea pressure)")
     if np.any(s < 0):
         v = s[s < 0].ravel()[0]
         raise ValueError(f"salinity_g_per_kg={v:g} is negative; salinity must be >= 0 "
-                         f"{_salinity_unit(solute)}")
-    return solute, s, p
-
-
-def _freezing_and_flags(solute, s, p):
-    """Freezing point (degC) and flags, inputs already checked and broadcast."""
-    if solute == "seawater":
-        tf = freezing.seawater_freezing_point_C(s, p)
-    else:
-        tf = freezing.brine_freezing_point_C(solute, s * 1e-3, p)
-    flags = np.where(p > 100.0, int(ExtrapolationFlag.DEEP), 0).astype(np.int64)
-    return tf, flags
+                         f"{rec.salinity.unit}")
+    return rec, s, p
 
 
 def freezing_point(solute, salinity_g_per_kg, pressure_MPa=0.0, *, return_flags=False, warn=True):
     """Freezing temperature (degC, ITS-90) of seawater or a single-salt brine.
 
-    Models and validity (details in :mod:`induct.brine.freezing`):
+    The solute's registry record (:mod:`induct.brine.registry`) supplies the
+    model, its salinity unit and limits. Built-in models and validity (details
+    in :mod:`induct.brine.freezing`):
 
     * ``"seawater"``: TEOS-10 polynomial (McDougall et al. 2014), air-free,
       0 <= SP <= 100, 0 <= p <= 100 MPa (within 6e-4 K of the exact TEOS-10
@@ -91,10 +73,12 @@ def freezing_point(solute, salinity_g_per_kg, pressure_MPa=0.0, *, return_flags=
 
     Parameters
     ----------
-    solute : {"seawater", "NaCl", "MgSO4", "KCl"}
-        Case-insensitive.
+    solute : str or Solute
+        A registered name or alias (:data:`induct.brine.SOLUTES`: "seawater",
+        "NaCl", "MgSO4", "KCl", ...), case-insensitive, or a registry record.
     salinity_g_per_kg : array_like
-        Seawater: Practical Salinity; others: g of anhydrous salt per kg of solution.
+        In the solute's unit (``get_solute(solute).salinity``): seawater Practical
+        Salinity; the salts g of anhydrous salt per kg of solution.
     pressure_MPa : array_like, default 0
         Sea (gauge) pressure (MPa), 0-1000.
     return_flags : bool, default False
@@ -113,19 +97,24 @@ def freezing_point(solute, salinity_g_per_kg, pressure_MPa=0.0, *, return_flags=
     ValueError
         Unknown solute, NaN/inf, negative salinity, salinity above the model's
         upper limit (for brines: the ice-salt eutectic), pressure outside 0-1000 MPa.
+
+    Examples
+    --------
+    >>> from induct import brine
+    >>> round(float(brine.freezing_point("seawater", 35.0)), 3)     # TEOS-10, air-free
+    -1.919
+    >>> round(float(brine.freezing_point("nacl", 232.0)), 1)        # Bodnar (1993) eutectic
+    -21.2
     """
-    solute, s, p = _check_common(solute, salinity_g_per_kg, pressure_MPa)
+    rec, s, p = _check_common(solute, salinity_g_per_kg, pressure_MPa)
     s, p = np.broadcast_arrays(s, p)
-    if solute == "seawater":
-        _range("salinity_g_per_kg", s, 0.0, extrapolation.SP_LIMIT, "(Practical Salinity)")
-    else:
-        hi = 1e3 * freezing.EUTECTIC_MASS_FRACTION[solute]
-        _range("salinity_g_per_kg", s, 0.0, hi, "g/kg",
-               f" for the ice liquidus of {solute} (above the eutectic the first solid "
-               f"to form is the salt, see the saturation limit)")
-    tf, flags = _freezing_and_flags(solute, s, p)
+    _range("salinity_g_per_kg", s, 0.0, rec.freezing_salinity_max, rec.salinity.unit,
+           rec.limits.freezing_note.format(name=rec.name))
+    tf = rec.freezing_model(rec, s, p)
+    flags = np.where(p > rec.limits.freezing_reference_pressure_max_MPa,
+                     int(ExtrapolationFlag.DEEP), 0).astype(np.int64)
     if warn:
-        warn_if_flagged(flags, f"freezing_point({solute!r})")
+        warn_if_flagged(flags, f"freezing_point({rec.name!r})")
     return (tf, flags) if return_flags else tf
 
 
@@ -133,7 +122,9 @@ def conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa=0.0, *,
                  return_flags=False, warn=True):
     """Electrical conductivity (S/m) of seawater or a single-salt brine.
 
-    Models and validity (no flag inside these ranges):
+    The solute's registry record (:mod:`induct.brine.registry`) supplies the
+    model, its salinity unit, limits and extrapolation flags. Built-in models
+    and validity (no flag inside these ranges):
 
     * ``"seawater"`` (salinity = Practical Salinity): PSS-78 (UNESCO 1981;
       Lewis & Perkin 1981) for 2 <= SP <= 42, -2 <= t <= 35 degC, 0 <= p <= 100 MPa,
@@ -150,10 +141,12 @@ def conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa=0.0, *,
 
     Parameters
     ----------
-    solute : {"seawater", "NaCl", "MgSO4", "KCl"}
-        Case-insensitive.
+    solute : str or Solute
+        A registered name or alias (:data:`induct.brine.SOLUTES`: "seawater",
+        "NaCl", "MgSO4", "KCl", ...), case-insensitive, or a registry record.
     salinity_g_per_kg : array_like
-        Seawater: Practical Salinity; others: g of anhydrous salt per kg of solution.
+        In the solute's unit (``get_solute(solute).salinity``): seawater Practical
+        Salinity; the salts g of anhydrous salt per kg of solution.
     temperature_C : array_like
         In-situ temperature (degC, ITS-90); must not be below the freezing point.
     pressure_MPa : array_like, default 0
@@ -175,38 +168,42 @@ def conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa=0.0, *,
         Unknown solute; NaN/inf; negative salinity; salinity above saturation
         (brines) or above SP 100 (seawater); temperature below the freezing point
         (frozen) or outside the model's limits; pressure outside 0-1000 MPa.
+
+    Examples
+    --------
+    >>> from induct import brine
+    >>> round(float(brine.conductivity("seawater", 35.0, 0.0)), 4)   # TEOS-10 C_from_SP: 2.9036 S/m
+    2.9036
+    >>> k, f = brine.conductivity("KCl", 50.0, [-1.0, 20.0], return_flags=True, warn=False)
+    >>> brine.describe_flags(f[0]), int(f[1])
+    (['COLD'], 0)
     """
-    solute, s, p = _check_common(solute, salinity_g_per_kg, pressure_MPa)
+    rec, s, p = _check_common(solute, salinity_g_per_kg, pressure_MPa)
     t = _finite("temperature_C", temperature_C)
     s, t, p = np.broadcast_arrays(s, t, p)
-    if solute == "seawater":
-        _range("salinity_g_per_kg", s, 0.0, extrapolation.SP_LIMIT, "(Practical Salinity)",
-               " for seawater (PSS-78 to 42, extrapolated beyond)")
-        _range("temperature_C", t, extrapolation.T_LIMITS_C[0], extrapolation.T_LIMITS_C[1], "degC",
-               " for seawater")
-        tf = freezing.seawater_freezing_point_C(s, p)
-        _check_not_frozen(solute, s, t, p, tf, extrapolation.T_LIMITS_C[1])
-        kappa, flags = extrapolation.seawater_conductivity(s, t, p)
-    else:
-        _range("temperature_C", t, limits.T_MIN_WALDEN_C, limits.T_MAX_SOLUTIONS_C, "degC",
-               f" for {solute}")
-        w = s * 1e-3
-        wsat = limits.saturation_mass_fraction(solute, t)
+    lim = rec.limits
+    if lim.salinity_max is not None:
+        _range("salinity_g_per_kg", s, 0.0, lim.salinity_max, rec.salinity.unit,
+               lim.salinity_note.format(name=rec.name))
+    t_lo, t_hi = lim.temperature_C
+    _range("temperature_C", t, t_lo, t_hi, "degC", f" for {rec.name}")
+    if lim.saturation_w is not None:
+        w = s * rec.salinity.to_mass_fraction
+        wsat = limits.saturation_mass_fraction(rec, t)
         over = w > wsat
         if np.any(over):
             i = np.flatnonzero(over.ravel())[0]
             raise ValueError(
-                f"salinity_g_per_kg={s.ravel()[i]:g} is above saturation of {solute} at "
-                f"{t.ravel()[i]:g} degC; allowed range [0, {1e3 * wsat.ravel()[i]:.4g}] g/kg")
-        w_eut = freezing.EUTECTIC_MASS_FRACTION[solute]
-        tf = np.where(w <= w_eut,
-                      freezing.brine_freezing_point_C(solute, np.minimum(w, w_eut), p), -np.inf)
-        _check_not_frozen(solute, s, t, p, tf, limits.T_MAX_SOLUTIONS_C)
-        kappa = solutions.conductivity_kernel(solute, w, t, p)
-        flags = (np.where(t < 0.0, int(ExtrapolationFlag.COLD), 0)
-                 | np.where(p > 100.0, int(ExtrapolationFlag.DEEP), 0)).astype(np.int64)
+                f"salinity_g_per_kg={s.ravel()[i]:g} is above saturation of {rec.name} at "
+                f"{t.ravel()[i]:g} degC; allowed range "
+                f"[0, {rec.salinity.from_mass_fraction * wsat.ravel()[i]:.4g}] {rec.salinity.unit}")
+    # -inf where no ice liquidus exists (above the eutectic the salt precipitates first)
+    tf = rec.freezing_model(rec, s, p, above_liquidus=-np.inf)
+    _check_not_frozen(rec.name, s, t, p, tf, t_hi)
+    kappa = rec.conductivity_model(rec, s, t, p)
+    flags = rec.extrapolation_flags(rec, s, t, p)
     if warn:
-        warn_if_flagged(flags, f"conductivity({solute!r})")
+        warn_if_flagged(flags, f"conductivity({rec.name!r})")
     return (kappa, flags) if return_flags else kappa
 
 
@@ -230,7 +227,8 @@ def ocean_conductivity_profile(solute, salinity_g_per_kg, temperature_C, pressur
 
     Parameters
     ----------
-    solute : {"seawater", "NaCl", "MgSO4", "KCl"}
+    solute : str or Solute
+        A registered name or alias, or a registry record.
     salinity_g_per_kg, temperature_C, pressure_MPa : array_like
         As in :func:`conductivity` (units: PSS-78 or g/kg, degC, MPa).
 
@@ -240,6 +238,13 @@ def ocean_conductivity_profile(solute, salinity_g_per_kg, temperature_C, pressur
         Conductivity (S/m), broadcast shape.
     flags : ndarray of int
         :class:`ExtrapolationFlag` bits per point (0 where no extrapolation).
+
+    Examples
+    --------
+    >>> from induct import brine
+    >>> sigma, flags = brine.ocean_conductivity_profile("MgSO4", 50.0, 0.0, [10.0, 90.0])
+    >>> sigma.shape, [int(f) for f in flags]
+    ((2,), [0, 0])
     """
     return conductivity(solute, salinity_g_per_kg, temperature_C, pressure_MPa,
                         return_flags=True, warn=True)

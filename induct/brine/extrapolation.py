@@ -42,6 +42,8 @@ from induct.brine.freezing import SA_PER_SP, T0_K
 SP_LIMIT = 100.0
 T_LIMITS_C = (-40.0, 40.0)
 P_LIMIT_MPA = 1000.0
+#: Registered brine whose conductivity ratio scales seawater beyond SP 42 (flag SALTY).
+SALINITY_PROXY = "NaCl"
 
 
 def walden_ratio(t_C, p_MPa, t_ref_C, p_ref_MPa):
@@ -100,7 +102,80 @@ def seawater_conductivity(SP, t_C, p_MPa):
         w = SA_PER_SP * SP * 1e-3
         w42 = SA_PER_SP * seawater.SP_MAX * 1e-3
         zero = np.zeros(SP.shape)
-        ratio = (solutions.conductivity_kernel("NaCl", w, t_b, zero)
-                 / solutions.conductivity_kernel("NaCl", w42, t_b, zero))
+        ratio = (solutions.conductivity_kernel(SALINITY_PROXY, w, t_b, zero)
+                 / solutions.conductivity_kernel(SALINITY_PROXY, w42, t_b, zero))
         kappa = np.where(salty, kappa * ratio, kappa)
     return kappa, flags
+
+
+# ----------------------------------------------------------------------------
+# Registry hooks: (solute, salinity in the record's unit, t, p)
+# ----------------------------------------------------------------------------
+def seawater_conductivity_model(solute, SP, t_C, p_MPa):
+    """Seawater conductivity (S/m); the registry's ``conductivity_model`` for seawater.
+
+    :func:`seawater_conductivity` without its flags (the registry's
+    ``extrapolation_flags`` hook gives them).
+
+    Parameters
+    ----------
+    solute : str or Solute
+        Unused (seawater's model is fixed); present for the registry's call signature.
+    SP : array_like
+        Practical Salinity.
+    t_C : array_like
+        Temperature (degC, ITS-90).
+    p_MPa : array_like
+        Sea pressure (MPa).
+
+    Returns
+    -------
+    ndarray
+        Conductivity (S/m), broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(seawater_conductivity_model("seawater", 35.0, 15.0 / 1.00024, 0.0)), 6)
+    4.2914
+    """
+    return seawater_conductivity(SP, t_C, p_MPa)[0]
+
+
+def reference_range_flags(solute, salinity, t_C, p_MPa):
+    """Extrapolation flags of points outside a solute's reference range; the registry's ``extrapolation_flags``.
+
+    SALTY above ``limits.reference_salinity_max``, COLD / WARM below / above
+    ``limits.reference_temperature_C``, DEEP above ``limits.reference_pressure_max_MPa``.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        A registered solute.
+    salinity : array_like
+        Salinity in the record's unit.
+    t_C : array_like
+        Temperature (degC).
+    p_MPa : array_like
+        Sea pressure (MPa).
+
+    Returns
+    -------
+    ndarray of int64
+        :class:`~induct.brine.flags.ExtrapolationFlag` bits, broadcast shape.
+
+    Examples
+    --------
+    >>> [int(f) for f in reference_range_flags("NaCl", 10.0, [-1.0, 5.0], [0.0, 150.0])]
+    [1, 2]
+    """
+    from induct.brine.registry import get_solute
+
+    lim = get_solute(solute).limits
+    s, t, p = np.broadcast_arrays(*(np.asarray(v, float) for v in (salinity, t_C, p_MPa)))
+    t_lo, t_hi = lim.reference_temperature_C
+    flags = np.zeros(s.shape, dtype=np.int64)
+    flags |= np.where(t < t_lo, int(ExtrapolationFlag.COLD), 0)
+    flags |= np.where(t > t_hi, int(ExtrapolationFlag.WARM), 0)
+    flags |= np.where(p > lim.reference_pressure_max_MPa, int(ExtrapolationFlag.DEEP), 0)
+    flags |= np.where(s > lim.reference_salinity_max, int(ExtrapolationFlag.SALTY), 0)
+    return flags

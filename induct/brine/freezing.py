@@ -218,23 +218,44 @@ def depression_pressure_factor(pressure_MPa):
 # ----------------------------------------------------------------------------
 # Single-salt brines at 1 atm
 # ----------------------------------------------------------------------------
-#: Molar masses (kg/mol) of water and the salts.
+# Per-solute data (molar mass, eutectic, Pitzer parameters) live in the solute
+# records of induct.brine.registry; the functions below take a record or a name.
+#: Molar mass of water (kg/mol).
 M_WATER = 0.018015268
-MOLAR_MASS = {"NaCl": 0.0584428, "KCl": 0.0745513, "MgSO4": 0.1203676}
-#: Eutectic (upper validity) mass fraction of the ice liquidus of each brine.
-EUTECTIC_MASS_FRACTION = {"NaCl": 0.232, "KCl": 0.1987, "MgSO4": 0.173}
 
 _R_GAS = 8.314462618
 _DH_FUS = 6009.5       # J/mol, enthalpy of fusion of ice Ih at 273.15 K (common practice)
 _DCP_FUS = 38.0        # J/(mol K), Cp(liquid) - Cp(ice Ih) near 0 degC (common practice)
 
-# Pitzer osmotic-coefficient parameters: (nu, |z+ z-|, alpha1, beta1, alpha2, beta2)
-# from Pitzer & Mayorga (1973, 1974); beta0 and C_phi refitted to the freezing
-# data by tools/brine_fit.py (printed there as FREEZING_PITZER).
-_PITZER = {
-    "KCl": dict(nu=2, zz=1, a1=2.0, b1=0.2122, a2=0.0, b2=0.0, b0=0.026839, cphi=-0.00123),
-    "MgSO4": dict(nu=2, zz=4, a1=1.4, b1=3.343, a2=12.0, b2=-37.23, b0=0.198924, cphi=0.038351),
-}
+
+def _solute(solute):
+    """The registry record of ``solute`` (name, alias or record); imported here since the registry imports us."""
+    from induct.brine.registry import get_solute
+
+    return get_solute(solute)
+
+
+def __getattr__(name):
+    """Read-only views derived from the registry, kept for existing callers (tools/brine_fit.py, tests).
+
+    ``MOLAR_MASS`` and ``EUTECTIC_MASS_FRACTION`` map solute names to floats,
+    ``_PITZER`` maps names to dicts with keys nu, zz, a1, b1, a2, b2, b0, cphi.
+    New code reads the records (:func:`induct.brine.registry.get_solute`).
+    """
+    if name not in ("MOLAR_MASS", "EUTECTIC_MASS_FRACTION", "_PITZER"):
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    from types import MappingProxyType
+
+    from induct.brine.registry import SOLUTES
+
+    if name == "MOLAR_MASS":
+        view = {n: r.molar_mass_kg_per_mol for n, r in SOLUTES.items() if r.molar_mass_kg_per_mol is not None}
+    elif name == "EUTECTIC_MASS_FRACTION":
+        view = {n: r.eutectic_mass_fraction for n, r in SOLUTES.items() if r.eutectic_mass_fraction is not None}
+    else:
+        view = {n: MappingProxyType(dict(nu=r.nu, zz=r.charge_product, **vars(r.pitzer)))
+                for n, r in SOLUTES.items() if r.pitzer is not None}
+    return MappingProxyType(view)
 
 _E = 1.602176634e-19
 _EPS0 = 8.8541878128e-12
@@ -257,14 +278,35 @@ def debye_huckel_aphi(T_K, p_abs_Pa=water.P_ATM_PA):
 
 
 def osmotic_coefficient(solute, molality, T_K):
-    """Pitzer osmotic coefficient of a single-salt solution (dimensionless)."""
-    c = _PITZER[solute]
+    """Pitzer osmotic coefficient of a single-salt solution (dimensionless).
+
+    Parameters
+    ----------
+    solute : str or Solute
+        A registered solute with ``pitzer`` parameters (KCl, MgSO4).
+    molality : array_like
+        mol/kg water.
+    T_K : array_like
+        Temperature (K).
+
+    Returns
+    -------
+    ndarray
+        phi, broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(osmotic_coefficient("KCl", 1.0, 273.15 - 3.29)), 3)
+    0.884
+    """
+    rec = _solute(solute)
+    c = rec.pitzer
     m = np.asarray(molality, float)
-    ionic = 0.5 * c["zz"] * c["nu"] * m if c["zz"] == 4 else m
+    ionic = rec.ionic_strength_per_molality * m
     si = np.sqrt(ionic)
-    f = -c["zz"] * debye_huckel_aphi(T_K) * si / (1.0 + 1.2 * si)
-    bphi = c["b0"] + c["b1"] * np.exp(-c["a1"] * si) + c["b2"] * np.exp(-c["a2"] * si)
-    return 1.0 + f + m * bphi + m * m * c["cphi"]
+    f = -rec.charge_product * debye_huckel_aphi(T_K) * si / (1.0 + 1.2 * si)
+    bphi = c.b0 + c.b1 * np.exp(-c.a1 * si) + c.b2 * np.exp(-c.a2 * si)
+    return 1.0 + f + m * bphi + m * m * c.cphi
 
 
 def ln_water_activity_ice(T_K):
@@ -277,18 +319,19 @@ def ln_water_activity_ice(T_K):
 def molality_from_mass_fraction(solute, w):
     """Molality (mol/kg water) from solute mass fraction w (kg solute / kg solution)."""
     w = np.asarray(w, float)
-    return w / (MOLAR_MASS[solute] * (1.0 - w))
+    return w / (_solute(solute).molar_mass_kg_per_mol * (1.0 - w))
 
 
 def _pitzer_depression(solute, m):
     """Freezing-point depression (K) at 1 atm from the Pitzer model (Newton on T)."""
-    nu = _PITZER[solute]["nu"]
+    rec = _solute(solute)
+    nu = rec.nu
     T = T0_K - 3.6 * m  # near-ideal start
     for _ in range(30):
-        phi = osmotic_coefficient(solute, m, T)
+        phi = osmotic_coefficient(rec, m, T)
         f = ln_water_activity_ice(T) + nu * m * M_WATER * phi
         h = 1e-4
-        phi2 = osmotic_coefficient(solute, m, T + h)
+        phi2 = osmotic_coefficient(rec, m, T + h)
         f2 = ln_water_activity_ice(T + h) + nu * m * M_WATER * phi2
         step = f * h / (f2 - f)
         T = T - step
@@ -311,12 +354,65 @@ def _bodnar_depression(w):
     return th
 
 
-def brine_depression_1atm(solute, mass_fraction):
-    """Freezing-point depression (K) of a single-salt brine at 1 atm.
+def bodnar_depression(solute, mass_fraction):
+    """NaCl freezing-point depression (K) at 1 atm, Bodnar (1993); a ``freezing_depression`` for the registry.
 
     Parameters
     ----------
-    solute : {"NaCl", "KCl", "MgSO4"}
+    solute : str or Solute
+        Unused (the Bodnar fit is for NaCl); present for the registry's call signature.
+    mass_fraction : array_like
+        kg NaCl per kg solution, 0 to 0.232 (eutectic).
+
+    Returns
+    -------
+    ndarray
+        Depression (K, positive).
+
+    Examples
+    --------
+    >>> round(float(bodnar_depression("NaCl", 0.232)), 1)
+    21.2
+    """
+    return _bodnar_depression(mass_fraction)
+
+
+def pitzer_depression(solute, mass_fraction):
+    """Freezing-point depression (K) at 1 atm from the Pitzer ice equilibrium; a ``freezing_depression``.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        Record with ``pitzer`` parameters, ``ions`` and ``molar_mass_kg_per_mol``.
+    mass_fraction : array_like
+        kg solute per kg solution, 0 up to the eutectic.
+
+    Returns
+    -------
+    ndarray
+        Depression (K, positive).
+
+    Examples
+    --------
+    >>> round(float(pitzer_depression("KCl", 0.0745513 / 1.0745513)), 2)   # 1 mol/kg; table: 3.29 K
+    3.28
+    """
+    rec = _solute(solute)
+    return _pitzer_depression(rec, molality_from_mass_fraction(rec, mass_fraction))
+
+
+pitzer_depression.requires = ("molar_mass_kg_per_mol", "ions", "pitzer")
+
+
+def brine_depression_1atm(solute, mass_fraction):
+    """Freezing-point depression (K) of a single-salt brine at 1 atm.
+
+    Uses the record's ``freezing_depression`` callable.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        A registered single-salt brine (name, alias or record).
     mass_fraction : array_like
         kg solute per kg solution, 0 up to the eutectic.
 
@@ -325,13 +421,11 @@ def brine_depression_1atm(solute, mass_fraction):
     ndarray
         Depression below the freezing point of pure water (K, positive).
     """
+    rec = _solute(solute)
     w = np.asarray(mass_fraction, float)
     # evaluate once per distinct salinity (profiles usually have one salinity)
     uniq, inverse = np.unique(w, return_inverse=True)
-    if solute == "NaCl":
-        dep = _bodnar_depression(uniq)
-    else:
-        dep = _pitzer_depression(solute, molality_from_mass_fraction(solute, uniq))
+    dep = rec.freezing_depression(rec, uniq)
     return dep[inverse].reshape(w.shape)
 
 
@@ -342,7 +436,8 @@ def brine_freezing_point_C(solute, mass_fraction, pressure_MPa):
 
     Parameters
     ----------
-    solute : {"NaCl", "KCl", "MgSO4"}
+    solute : str or Solute
+        A registered single-salt brine.
     mass_fraction : array_like
         kg solute per kg solution (0 to the eutectic).
     pressure_MPa : array_like
@@ -356,3 +451,76 @@ def brine_freezing_point_C(solute, mass_fraction, pressure_MPa):
     w, p = np.broadcast_arrays(np.asarray(mass_fraction, float), np.asarray(pressure_MPa, float))
     dep = brine_depression_1atm(solute, w)
     return water_freezing_point_C(p) - dep * depression_pressure_factor(p)
+
+
+# ----------------------------------------------------------------------------
+# Registry freezing models: (solute, salinity in the record's unit, p) -> degC
+# ----------------------------------------------------------------------------
+def brine_freezing_point(solute, salinity, pressure_MPa, above_liquidus=None):
+    """Freezing temperature (degC) of a single-salt brine; the registry's ``freezing_model`` for brines.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        Record with ``freezing_depression``, ``eutectic_mass_fraction`` and a salinity scale.
+    salinity : array_like
+        Salinity in the record's unit (g/kg of solution for the built-in salts).
+    pressure_MPa : array_like
+        Sea pressure (MPa).
+    above_liquidus : float, optional
+        If given, the value returned where the mass fraction exceeds the eutectic
+        (the first solid is then the salt, not ice); otherwise no such check.
+
+    Returns
+    -------
+    ndarray
+        Freezing temperature (degC), broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(brine_freezing_point("NaCl", 232.0, 0.0)), 1)
+    -21.2
+    >>> float(brine_freezing_point("NaCl", 250.0, 0.0, above_liquidus=-np.inf))
+    -inf
+    """
+    rec = _solute(solute)
+    w = salinity * rec.salinity.to_mass_fraction
+    if above_liquidus is None:
+        return brine_freezing_point_C(rec, w, pressure_MPa)
+    w_eut = rec.eutectic_mass_fraction
+    return np.where(w <= w_eut, brine_freezing_point_C(rec, np.minimum(w, w_eut), pressure_MPa), above_liquidus)
+
+
+brine_freezing_point.requires = ("freezing_depression", "eutectic_mass_fraction")
+
+
+def seawater_freezing_point(solute, SP, pressure_MPa, above_liquidus=None):
+    """Freezing temperature (degC) of seawater; the registry's ``freezing_model`` for seawater.
+
+    :func:`seawater_freezing_point_C` with the registry's call signature.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        The seawater record (its ``freezing_salinity_max`` ends the liquidus).
+    SP : array_like
+        Practical Salinity.
+    pressure_MPa : array_like
+        Sea pressure (MPa).
+    above_liquidus : float, optional
+        If given, the value returned above the record's upper salinity.
+
+    Returns
+    -------
+    ndarray
+        Freezing temperature (degC), broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(seawater_freezing_point("seawater", 35.0, 0.0)), 3)
+    -1.919
+    """
+    tf = seawater_freezing_point_C(SP, pressure_MPa)
+    if above_liquidus is None:
+        return tf
+    return np.where(np.asarray(SP) <= _solute(solute).freezing_salinity_max, tf, above_liquidus)

@@ -1,4 +1,4 @@
-"""Conductivity of single-salt brines (NaCl, KCl, MgSO4): ion-additive model with ion pairing.
+"""Conductivity of single-salt brines (NaCl, KCl, MgSO4, ...): ion-additive model with ion pairing.
 
 Model (``kappa`` in S/m; m = molality, mol/kg water; t in degC):
 
@@ -41,29 +41,41 @@ from __future__ import annotations
 import numpy as np
 
 from induct.brine import water
-from induct.brine.freezing import MOLAR_MASS, T0_K
+from induct.brine.freezing import T0_K
 
-# McCleskey et al. (2012) Table 1: a, b, c, p, q, r, B
-_ION = {
+#: McCleskey et al. (2012) Table 1, per ion: a, b, c, p, q, r, B (see the module docstring).
+#: Salts name their ions in their registry record (:class:`induct.brine.registry.Ion`);
+#: a new salt with new ions adds them here.
+MCCLESKEY_IONS = {
     "Na+": (0.003763, 0.8770, 26.23, 0.00027, 1.141, 32.07, 1.7),
     "K+": (0.003046, 1.261, 40.70, 0.00535, 0.9316, 22.59, 1.5),
     "Mg2+": (0.01068, 1.695, 57.16, 0.02453, 1.915, 80.50, 2.1),
     "Cl-": (0.003817, 1.337, 40.99, 0.00613, 0.9469, 22.01, 1.5),
     "SO4 2-": (0.01037, 2.838, 82.37, 0.03324, 5.889, 193.5, 2.6),
 }
-_SALT_IONS = {"NaCl": ("Na+", "Cl-"), "KCl": ("K+", "Cl-"), "MgSO4": ("Mg2+", "SO4 2-")}
-_CHARGE = {"NaCl": 1, "KCl": 1, "MgSO4": 2}
 
-#: Apparent molar volume V0 (cm^3/mol) and Masson slope S_v (cm^3 kg^0.5 mol^-1.5) near 25 degC.
-_VPHI = {"NaCl": (16.6, 1.9), "KCl": (26.8, 2.0), "MgSO4": (-7.2, 12.5)}
-
-#: Concentrated-solution factor G(m) = exp(-g m^2 / (1 + h m)); from tools/brine_fit.py.
-_CONC = {"NaCl": (0.012017, 0.0), "KCl": (1.5e-05, 4.471304), "MgSO4": (0.714311, 1.332731)}
-
-#: MgSO4(aq) association: log10 K at 25 degC and enthalpy (J/mol), PHREEQC phreeqc.dat (from memory).
-_LOGK_MGSO4_25 = 2.37
-_DH_MGSO4 = 19037.0
+# Per-salt data (molar mass, ions, Masson volumes, concentrated-solution factor,
+# ion pairing, calibration points) live in the records of induct.brine.registry.
 _R_GAS = 8.314462618
+
+
+def _solute(solute):
+    """The registry record of ``solute`` (name, alias or record); imported here since the registry imports us."""
+    from induct.brine.registry import get_solute
+
+    return get_solute(solute)
+
+
+def __getattr__(name):
+    """``_VPHI``: read-only view name -> (V0, S_v) derived from the registry, kept for existing tests."""
+    if name == "_VPHI":
+        from types import MappingProxyType
+
+        from induct.brine.registry import SOLUTES
+
+        return MappingProxyType({n: r.apparent_molar_volume for n, r in SOLUTES.items()
+                                 if r.apparent_molar_volume is not None})
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def ion_molar_conductivity(ion, t_C, ionic_strength):
@@ -82,7 +94,7 @@ def ion_molar_conductivity(ion, t_C, ionic_strength):
     ndarray
         lambda_i (S cm^2 per mole of ion).
     """
-    a, b, c, p, q, r, B = _ION[ion]
+    a, b, c, p, q, r, B = MCCLESKEY_IONS[ion]
     t = np.asarray(t_C, float)
     si = np.sqrt(np.asarray(ionic_strength, float))
     return (a * t * t + b * t + c) - (p * t * t + q * t + r) * si / (1.0 + B * si)
@@ -95,13 +107,16 @@ def _debye_huckel_a(t_C):
 
 
 def free_ion_fraction(solute, molality, t_C):
-    """Fraction of the salt present as free ions (1 for NaCl, KCl; < 1 for MgSO4).
+    """Fraction of the salt present as free ions (1 without ``ion_pairing``, e.g. NaCl, KCl; < 1 for MgSO4).
 
-    Solves (1 - alpha) = K gamma^2 alpha^2 m by bisection (60 steps, vectorised).
+    Solves (1 - alpha) = K gamma^2 alpha^2 m by bisection (60 steps, vectorised),
+    for a symmetric salt (|z+| = |z-| = z): ionic strength z^2 alpha m,
+    log10 gamma = -A z^2 sqrt(I) / (1 + sqrt(I)).
 
     Parameters
     ----------
-    solute : {"NaCl", "KCl", "MgSO4"}
+    solute : str or Solute
+        A registered salt; its ``ion_pairing`` (None: fully dissociated).
     molality : array_like
         mol/kg water.
     t_C : array_like
@@ -111,20 +126,31 @@ def free_ion_fraction(solute, molality, t_C):
     -------
     ndarray
         alpha in (0, 1].
+
+    Examples
+    --------
+    >>> float(free_ion_fraction("NaCl", 1.0, 20.0))
+    1.0
+    >>> bool(free_ion_fraction("MgSO4", 1.0, 20.0) < 0.8)
+    True
     """
+    rec = _solute(solute)
     m, t = np.broadcast_arrays(np.asarray(molality, float), np.asarray(t_C, float))
-    if solute != "MgSO4":
+    pair = rec.ion_pairing
+    if pair is None:
         return np.ones(m.shape)
+    z2 = rec.charge_product
+    i_per_m = rec.ionic_strength_per_molality
     T = t + T0_K
-    logk = _LOGK_MGSO4_25 - _DH_MGSO4 / (np.log(10.0) * _R_GAS) * (1.0 / T - 1.0 / 298.15)
+    logk = pair.log10_k_25C - pair.enthalpy_J_per_mol / (np.log(10.0) * _R_GAS) * (1.0 / T - 1.0 / 298.15)
     K = 10.0 ** logk
     A = _debye_huckel_a(t)
     lo = np.zeros(m.shape)
     hi = np.ones(m.shape)
     for _ in range(60):
         mid = 0.5 * (lo + hi)
-        si = np.sqrt(4.0 * mid * m)
-        gamma2 = 10.0 ** (-2.0 * 4.0 * A * si / (1.0 + si))
+        si = np.sqrt(i_per_m * mid * m)
+        gamma2 = 10.0 ** (-2.0 * z2 * A * si / (1.0 + si))
         f = (1.0 - mid) - K * gamma2 * mid * mid * m
         lo = np.where(f > 0.0, mid, lo)
         hi = np.where(f > 0.0, hi, mid)
@@ -132,31 +158,73 @@ def free_ion_fraction(solute, molality, t_C):
 
 
 def solution_density(solute, molality, T_K, p_abs_Pa=water.P_ATM_PA):
-    """Solution density (kg/m^3) from Masson's rule with IAPWS-95 water density."""
+    """Solution density (kg/m^3) from Masson's rule with IAPWS-95 water density.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        Record with ``apparent_molar_volume`` and ``molar_mass_kg_per_mol``.
+    molality : array_like
+        mol/kg water.
+    T_K : array_like
+        Temperature (K).
+    p_abs_Pa : array_like, default 1 atm
+        Absolute pressure (Pa).
+
+    Returns
+    -------
+    ndarray
+        Density (kg/m^3).
+
+    Examples
+    --------
+    >>> round(float(solution_density("NaCl", 0.0, 298.15)), 2)   # pure water, IAPWS-95
+    997.05
+    """
+    rec = _solute(solute)
     m = np.asarray(molality, float)
-    v0, sv = _VPHI[solute]
+    v0, sv = rec.apparent_molar_volume
     vphi = (v0 + sv * np.sqrt(m)) * 1e-6
-    return (1.0 + m * MOLAR_MASS[solute]) / (1.0 / water.density(T_K, p_abs_Pa) + m * vphi)
+    return (1.0 + m * rec.molar_mass_kg_per_mol) / (1.0 / water.density(T_K, p_abs_Pa) + m * vphi)
 
 
 def concentrated_factor(solute, molality):
-    """Concentrated-solution factor G(m) = exp(-g m^2 / (1 + h m)) (dimensionless)."""
-    g, h = _CONC[solute]
+    """Concentrated-solution factor G(m) = exp(-g m^2 / (1 + h m)) (dimensionless).
+
+    Parameters
+    ----------
+    solute : str or Solute
+        Record with ``concentrated_factor`` = (g, h).
+    molality : array_like
+        mol/kg water.
+
+    Returns
+    -------
+    ndarray
+        G, in (0, 1].
+
+    Examples
+    --------
+    >>> float(concentrated_factor("KCl", 0.0))
+    1.0
+    """
+    g, h = _solute(solute).concentrated_factor
     m = np.asarray(molality, float)
     return np.exp(-g * m * m / (1.0 + h * m))
 
 
 def _kappa_1atm(solute, m, t_C, G=True):
     """Conductivity (S/m) at 1 atm for t >= 0 degC (steps 1-4 of the module docstring)."""
-    cation, anion = _SALT_IONS[solute]
-    z = _CHARGE[solute]
-    alpha = free_ion_fraction(solute, m, t_C)
-    ionic = z * z * alpha * m
-    lam = ion_molar_conductivity(cation, t_C, ionic) + ion_molar_conductivity(anion, t_C, ionic)
-    rho = solution_density(solute, m, t_C + T0_K)
-    c_mol_per_L = m * rho / (1.0 + m * MOLAR_MASS[solute]) * 1e-3
+    rec = _solute(solute)
+    alpha = free_ion_fraction(rec, m, t_C)
+    ionic = rec.ionic_strength_per_molality * alpha * m
+    lam = 0.0
+    for ion in rec.ions:
+        lam = lam + ion.count * ion_molar_conductivity(ion.name, t_C, ionic)
+    rho = solution_density(rec, m, t_C + T0_K)
+    c_mol_per_L = m * rho / (1.0 + m * rec.molar_mass_kg_per_mol) * 1e-3
     kappa = 0.1 * alpha * c_mol_per_L * lam   # S/m (1 mS/cm = 0.1 S/m)
-    return kappa * concentrated_factor(solute, m) if G else kappa
+    return kappa * concentrated_factor(rec, m) if G else kappa
 
 
 def conductivity_kernel(solute, mass_fraction, t_C, pressure_MPa):
@@ -164,7 +232,8 @@ def conductivity_kernel(solute, mass_fraction, t_C, pressure_MPa):
 
     Parameters
     ----------
-    solute : {"NaCl", "KCl", "MgSO4"}
+    solute : str or Solute
+        A registered single-salt brine (name, alias or record).
     mass_fraction : array_like
         kg solute per kg solution.
     t_C : array_like
@@ -176,11 +245,17 @@ def conductivity_kernel(solute, mass_fraction, t_C, pressure_MPa):
     -------
     ndarray
         Conductivity (S/m), broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(conductivity_kernel("NaCl", 0.01, 20.0, 0.0)), 3)   # CRC Handbook: 1.60 S/m
+    1.548
     """
+    rec = _solute(solute)
     w, t, p = np.broadcast_arrays(*(np.asarray(v, float) for v in (mass_fraction, t_C, pressure_MPa)))
-    m = w / (MOLAR_MASS[solute] * (1.0 - w))
+    m = w / (rec.molar_mass_kg_per_mol * (1.0 - w))
     t_ref = np.maximum(t, 0.0)
-    kappa = _kappa_1atm(solute, m, t_ref)
+    kappa = _kappa_1atm(rec, m, t_ref)
     p_abs = p * 1e6 + water.P_ATM_PA
     needs = (t < 0.0) | (p > 0.0)
     if np.any(needs):
@@ -189,23 +264,70 @@ def conductivity_kernel(solute, mass_fraction, t_C, pressure_MPa):
     return kappa
 
 
-def fit_concentrated_factor():
-    """Fit (g, h) of G(m) to the 20 degC data; used by tools/brine_fit.py. Returns a dict."""
+def brine_conductivity(solute, salinity, t_C, pressure_MPa):
+    """Brine conductivity (S/m) from salinity in the record's unit; the registry's ``conductivity_model``.
+
+    :func:`conductivity_kernel` at mass fraction ``salinity * solute.salinity.to_mass_fraction``.
+
+    Parameters
+    ----------
+    solute : str or Solute
+        A registered single-salt brine.
+    salinity : array_like
+        Salinity in the record's unit (g/kg of solution for the built-in salts).
+    t_C : array_like
+        Temperature (degC, ITS-90).
+    pressure_MPa : array_like
+        Sea pressure (MPa).
+
+    Returns
+    -------
+    ndarray
+        Conductivity (S/m), broadcast shape.
+
+    Examples
+    --------
+    >>> round(float(brine_conductivity("NaCl", 10.0, 20.0, 0.0)), 3)
+    1.548
+    """
+    rec = _solute(solute)
+    return conductivity_kernel(rec, salinity * rec.salinity.to_mass_fraction, t_C, pressure_MPa)
+
+
+brine_conductivity.requires = ("molar_mass_kg_per_mol", "ions", "apparent_molar_volume", "concentrated_factor")
+
+
+def fit_concentrated_factor(solutes=None):
+    """Fit (g, h) of G(m) to each record's ``conductivity_calibration``; used by tools/brine_fit.py.
+
+    Calibration data (20 degC, mass % -> mS/cm) are in the registry records: CRC
+    Handbook "Electrical conductivity of aqueous solutions"; for NaCl also the
+    saturated-NaCl standard (26.4 mass %, 226.0 mS/cm, Mettler-Toledo), for KCl
+    the NIST 1.0 mol/kg standard (99.170 mS/cm; Wu et al. 1994).
+
+    Parameters
+    ----------
+    solutes : iterable of str or Solute, optional
+        Default: every registered solute with calibration data.
+
+    Returns
+    -------
+    dict
+        name -> (g, h), rounded to 6 decimals.
+    """
     from scipy.optimize import least_squares
 
-    # CRC Handbook, "Electrical conductivity of aqueous solutions", 20 degC: mass % -> mS/cm;
-    # NaCl also the saturated-NaCl standard (26.4 mass %, 226.0 mS/cm at 20 degC, Mettler-Toledo);
-    # KCl also the NIST 1.0 mol/kg standard at 20 degC (99.170 mS/cm; Wu et al. 1994).
-    data = {
-        "NaCl": ([0.5, 1, 2, 26.4], [8.2, 16.0, 30.2, 226.0]),
-        "KCl": ([0.5, 1, 2, 5, 100 * 74.5513e-3 / 1.0745513], [8.2, 15.7, 29.5, 71.9, 99.170]),
-        "MgSO4": ([0.5, 1, 2, 5, 10, 15, 20, 25], [4.1, 7.6, 13.3, 27.4, 42.7, 54.2, 51.1, 44.1]),
-    }
+    from induct.brine.registry import SOLUTES
+
+    records = [_solute(s) for s in (SOLUTES if solutes is None else solutes)]
     out = {}
-    for solute, (pct, kap) in data.items():
+    for rec in records:
+        if rec.conductivity_calibration is None:
+            continue
+        pct, kap = (list(c) for c in zip(*rec.conductivity_calibration))
         w = np.array(pct) / 100.0
-        m = w / (MOLAR_MASS[solute] * (1.0 - w))
-        raw = _kappa_1atm(solute, m, np.full(m.shape, 20.0), G=False) * 10.0  # mS/cm
+        m = w / (rec.molar_mass_kg_per_mol * (1.0 - w))
+        raw = _kappa_1atm(rec, m, np.full(m.shape, 20.0), G=False) * 10.0  # mS/cm
         target = np.log(np.array(kap) / raw)
 
         def resid(x, m=m, target=target):
@@ -213,5 +335,5 @@ def fit_concentrated_factor():
 
         # g, h >= 0: the factor can only lower the conductivity (G <= 1)
         sol = least_squares(resid, x0=[0.01, 0.1], bounds=([0.0, 0.0], [np.inf, np.inf]))
-        out[solute] = (round(float(sol.x[0]), 6), round(float(sol.x[1]), 6))
+        out[rec.name] = (round(float(sol.x[0]), 6), round(float(sol.x[1]), 6))
     return out

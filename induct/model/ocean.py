@@ -335,10 +335,16 @@ def layer_chemistry(layer, where: str = "") -> dict:
         ``solute`` (str), ``salinity_g_per_kg`` (float), ``temperature_C`` (float or None: the
         freezing point at the ocean's top) and ``temperature_profile`` ("isothermal" or "adiabatic").
     """
+    from induct import brine
+
     lw = where or f"layer {layer.name!r}"
     solute = layer.extra.get("solute")
     if solute is None:
-        raise ValueError(f"{lw}: give solute (e.g. 'seawater', 'NaCl', 'MgSO4', 'KCl') with salinity_g_per_kg")
+        raise ValueError(f"{lw}: give solute (one of {', '.join(brine.SOLUTES)}) with salinity_g_per_kg")
+    try:
+        solute = brine.get_solute(solute).name  # canonical name from the solute registry
+    except ValueError as exc:
+        raise ValueError(f"{lw}: {exc}") from None
     shape = layer.extra.get("temperature_profile", "isothermal")
     if shape not in ("isothermal", "adiabatic"):
         raise ValueError(f"{lw}: temperature_profile must be 'isothermal' or 'adiabatic', got {shape!r}")

@@ -22,19 +22,32 @@ import csv
 import datetime
 import itertools
 import json
+import os
+import tempfile
 
 import numpy as np
 
 from induct import __version__
-from induct.brine import SOLUTES, conductivity, describe_flags, freezing_point
+from induct.brine import SOLUTES, conductivity, describe_flags, freezing_point, get_solute
 
-_UNITS = {
-    "salinity": "Practical Salinity (PSS-78) for seawater, g/kg of solution otherwise",
-    "temperature_C": "degC (ITS-90)",
-    "pressure_MPa": "MPa (sea pressure)",
-    "conductivity_S_per_m": "S/m",
-    "freezing_point_C": "degC (ITS-90)",
-}
+
+def _units(rec):
+    """Units of the output columns for one solute record (salinity unit from the registry)."""
+    return {
+        "salinity": rec.salinity.meaning,
+        "temperature_C": "degC (ITS-90)",
+        "pressure_MPa": "MPa (sea pressure)",
+        "conductivity_S_per_m": "S/m",
+        "freezing_point_C": "degC (ITS-90)",
+    }
+
+
+def _salinity_units_help():
+    """'seawater: SP; NaCl, MgSO4, KCl: g/kg' -- the salinity label of every registered solute."""
+    by_label = {}
+    for name, rec in SOLUTES.items():
+        by_label.setdefault(rec.salinity.label, []).append(name)
+    return "; ".join(f"{', '.join(names)}: {label}" for label, names in by_label.items())
 
 
 def register(subparsers):
@@ -42,12 +55,12 @@ def register(subparsers):
     p = subparsers.add_parser(
         "brine",
         help="ocean/brine conductivity (S/m) and freezing point",
-        description="Electrical conductivity and freezing point of seawater (PSS-78/TEOS-10) or "
-                    "NaCl/KCl/MgSO4 brines, with extrapolation flags.",
+        description="Electrical conductivity and freezing point of seawater or a single-salt brine "
+                    f"({', '.join(SOLUTES)}), with extrapolation flags.",
     )
-    p.add_argument("--solute", required=True, help=f"one of {', '.join(SOLUTES)}")
+    p.add_argument("--solute", required=True, help=f"one of {', '.join(SOLUTES)} (case-insensitive)")
     p.add_argument("--salinity", required=True,
-                   help="salinity (seawater: Practical Salinity; others: g/kg), value or lo:hi:n")
+                   help=f"salinity in the solute's unit ({_salinity_units_help()}), value or lo:hi:n")
     p.add_argument("--temperature", default=None,
                    help="temperature in degC, value or lo:hi:n (default: the freezing point); "
                         "write negative ranges as --temperature=-4:0:5")
@@ -104,11 +117,11 @@ def _fmt(v, spec):
     return "-" if v is None else format(v, spec)
 
 
-def _print_table(solute, rows):
-    s_unit = "SP" if solute == "seawater" else "g/kg"
+def _print_table(rec, rows):
+    s_unit = rec.salinity.label
     head = (f"{'':1} {'salinity [' + s_unit + ']':>16} {'T [degC]':>10} {'p [MPa]':>9} "
             f"{'sigma [S/m]':>12} {'T_freeze [degC]':>16}  flags")
-    print(f"induct brine: solute {solute}")
+    print(f"induct brine: solute {rec.name}")
     print(head)
     for r in rows:
         mark = "*" if r["extrapolated"] else ("!" if not r["valid"] else " ")
@@ -121,20 +134,29 @@ def _print_table(solute, rows):
               "DEEP: above 100 MPa; SALTY: SP above 42) -- see docs/brine.md")
 
 
-def _write_csv(path, solute, rows):
-    with open(path, "w", newline="") as fh:
-        fh.write(f"# induct {__version__} brine; solute={solute}; "
-                 f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
-                 f"rows={len(rows)}\n")
-        fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _UNITS.items()) + "\n")
-        w = csv.writer(fh)
-        w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
-                    "freezing_point_C", "extrapolated", "flags", "error"])
-        for r in rows:
-            w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
-                        "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
-                        "" if r["freezing_point_C"] is None else r["freezing_point_C"],
-                        int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
+def _write_csv(path, rec, rows):
+    """Write the table to ``path`` (via a temporary file in the same folder, then os.replace)."""
+    folder = os.path.dirname(os.path.abspath(path))
+    fd, tmp = tempfile.mkstemp(prefix=".brine-", suffix=".csv.tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "w", newline="") as fh:
+            fh.write(f"# induct {__version__} brine; solute={rec.name}; "
+                     f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
+                     f"rows={len(rows)}\n")
+            fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _units(rec).items()) + "\n")
+            w = csv.writer(fh)
+            w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
+                        "freezing_point_C", "extrapolated", "flags", "error"])
+            for r in rows:
+                w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
+                            "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
+                            "" if r["freezing_point_C"] is None else r["freezing_point_C"],
+                            int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
 
 
 def run(args):
@@ -142,10 +164,12 @@ def run(args):
     sal = _parse_values(args.salinity, "salinity")
     temps = [None] if args.temperature is None else list(_parse_values(args.temperature, "temperature"))
     pres = _parse_values(args.pressure, "pressure")
-    # solute check (and canonical spelling) via the API's own validation
-    solute = next((s for s in SOLUTES if s.lower() == str(args.solute).lower()), None)
-    if solute is None:
-        raise ValueError(f"--solute must be one of {', '.join(SOLUTES)}; got {args.solute!r}")
+    # solute record (canonical name, salinity unit) from the registry
+    try:
+        rec = get_solute(args.solute)
+    except ValueError:
+        raise ValueError(f"--solute must be one of {', '.join(SOLUTES)}; got {args.solute!r}") from None
+    solute = rec.name
     combos = list(itertools.product(sal, temps, pres))
     if len(combos) == 1:
         s, t, p = combos[0]
@@ -156,9 +180,9 @@ def run(args):
     else:
         rows = [_evaluate(solute, s, t, p) for s, t, p in combos]
     if args.csv:
-        _write_csv(args.csv, solute, rows)
+        _write_csv(args.csv, rec, rows)
     if args.json:
-        print(json.dumps({"solute": solute, "units": _UNITS, "rows": rows}, indent=2))
+        print(json.dumps({"solute": solute, "units": _units(rec), "rows": rows}, indent=2))
     else:
-        _print_table(solute, rows)
+        _print_table(rec, rows)
     return 0 if any(r["valid"] for r in rows) else 2
