@@ -38,6 +38,7 @@ from induct.brine import solutions
 from induct.brine import water
 from induct.brine.flags import ExtrapolationFlag
 from induct.brine.freezing import SA_PER_SP, T0_K
+from induct.brine.names import SOLUTES, get_solute
 
 SP_LIMIT = 100.0
 T_LIMITS_C = (-40.0, 40.0)
@@ -168,8 +169,6 @@ def reference_range_flags(solute, salinity, t_C, p_MPa):
     >>> [int(f) for f in reference_range_flags("NaCl", 10.0, [-1.0, 5.0], [0.0, 150.0])]
     [1, 2]
     """
-    from induct.brine.registry import get_solute
-
     lim = get_solute(solute).limits
     s, t, p = np.broadcast_arrays(*(np.asarray(v, float) for v in (salinity, t_C, p_MPa)))
     t_lo, t_hi = lim.reference_temperature_C

@@ -41,6 +41,7 @@ from __future__ import annotations
 import numpy as np
 
 from induct.brine import water
+from induct.brine.names import SOLUTES, get_solute
 
 P_ATM_MPA = water.P_ATM_PA * 1e-6
 T0_K = 273.15
@@ -230,8 +231,6 @@ _DCP_FUS = 38.0        # J/(mol K), Cp(liquid) - Cp(ice Ih) near 0 degC (common 
 
 def _solute(solute):
     """The registry record of ``solute`` (name, alias or record); imported here since the registry imports us."""
-    from induct.brine.registry import get_solute
-
     return get_solute(solute)
 
 
@@ -245,9 +244,6 @@ def __getattr__(name):
     if name not in ("MOLAR_MASS", "EUTECTIC_MASS_FRACTION", "_PITZER"):
         raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
     from types import MappingProxyType
-
-    from induct.brine.registry import SOLUTES
-
     if name == "MOLAR_MASS":
         view = {n: r.molar_mass_kg_per_mol for n, r in SOLUTES.items() if r.molar_mass_kg_per_mol is not None}
     elif name == "EUTECTIC_MASS_FRACTION":

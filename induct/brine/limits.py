@@ -19,6 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from induct.brine import freezing
+from induct.brine.names import SOLUTES, get_solute
 
 #: Hard temperature limits (degC) of the conductivity models (freezing point still applies).
 T_MAX_SOLUTIONS_C = 60.0
@@ -32,8 +33,6 @@ _TABLE_CACHE = {}
 
 def _solute(solute):
     """The registry record of ``solute`` (name, alias or record); imported here since the registry imports us."""
-    from induct.brine.registry import get_solute
-
     return get_solute(solute)
 
 

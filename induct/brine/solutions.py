@@ -42,6 +42,7 @@ import numpy as np
 
 from induct.brine import water
 from induct.brine.freezing import T0_K
+from induct.brine.names import SOLUTES, get_solute
 
 #: McCleskey et al. (2012) Table 1, per ion: a, b, c, p, q, r, B (see the module docstring).
 #: Salts name their ions in their registry record (:class:`induct.brine.registry.Ion`);
@@ -61,8 +62,6 @@ _R_GAS = 8.314462618
 
 def _solute(solute):
     """The registry record of ``solute`` (name, alias or record); imported here since the registry imports us."""
-    from induct.brine.registry import get_solute
-
     return get_solute(solute)
 
 
@@ -70,9 +69,6 @@ def __getattr__(name):
     """``_VPHI``: read-only view name -> (V0, S_v) derived from the registry, kept for existing tests."""
     if name == "_VPHI":
         from types import MappingProxyType
-
-        from induct.brine.registry import SOLUTES
-
         return MappingProxyType({n: r.apparent_molar_volume for n, r in SOLUTES.items()
                                  if r.apparent_molar_volume is not None})
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
@@ -316,9 +312,6 @@ def fit_concentrated_factor(solutes=None):
         name -> (g, h), rounded to 6 decimals.
     """
     from scipy.optimize import least_squares
-
-    from induct.brine.registry import SOLUTES
-
     records = [_solute(s) for s in (SOLUTES if solutes is None else solutes)]
     out = {}
     for rec in records:
