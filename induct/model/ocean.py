@@ -175,8 +175,8 @@ def gravity_m_per_s2(r_m, radii_m, density_kg_per_m3) -> np.ndarray:
 
     Examples
     --------
-    >>> float(gravity_m_per_s2(1.0e6, [1.0e6], [3000.0]))  # 4/3 pi G rho r
-    0.8386...
+    >>> round(float(gravity_m_per_s2(1.0e6, [1.0e6], [3000.0])), 6)  # 4/3 pi G rho r
+    0.838717
     """
     radii = np.asarray(radii_m, dtype=float)
     rho = np.asarray(density_kg_per_m3, dtype=float)
@@ -213,7 +213,7 @@ def hydrostatic_pressure_MPa(r_m, radii_m, density_kg_per_m3) -> np.ndarray:
     --------
     >>> p = hydrostatic_pressure_MPa([0.0], [1.0e6], [3000.0])  # (2 pi / 3) G rho^2 R^2
     >>> round(float(p[0]), 6)
-    1258.030508
+    1258.075911
     """
     radii = np.asarray(radii_m, dtype=float)
     rho = np.broadcast_to(np.asarray(density_kg_per_m3, dtype=float), radii.shape)
@@ -297,9 +297,9 @@ def adiabatic_temperature_C(pressure_MPa, top_temperature_C, salinity) -> np.nda
 
     Examples
     --------
-    >>> t = adiabatic_temperature_C([0.0, 100.0], -2.0, 35.0)
-    >>> bool(0.0 < t[1] - t[0] < 1.0)   # a few tenths of a kelvin over 100 MPa
-    True
+    >>> t = adiabatic_temperature_C([0.0, 100.0], -2.0, 35.0)   # about 1 K warmer 100 MPa down
+    >>> round(float(t[1] - t[0]), 3)
+    1.043
     """
     p = np.asarray(pressure_MPa, dtype=float)
     t0 = np.asarray(top_temperature_C, dtype=float)
