@@ -8,3 +8,10 @@ MU0 = 4.0e-7 * math.pi
 
 SECONDS_PER_HOUR = 3600.0
 METRES_PER_KM = 1000.0
+
+#: What the model leaves out, in one sentence: shown beside every result (figure captions, command output,
+#: report, file metadata). Plain text, so any module can import it without a plotting library.
+MODEL_LIMITS = (
+    "Spherically symmetric quasi-static induction only: no plasma interaction, asymmetric shells or motional "
+    "induction."
+)

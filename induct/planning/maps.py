@@ -68,7 +68,6 @@ __all__ = [
     "consistency_levels",
     "dipole_factor",
     "fixed_parameters",
-    "plot_map",
 ]
 
 #: Map quantities: name -> (label, unit shown on figures, CF unit, needs a driving amplitude).
@@ -81,7 +80,6 @@ QUANTITIES = {
 
 _FIELD_UNITS = {"thickness_km": "km", "conductivity_S_per_m": "S/m", "conductance_S": "S"}
 _FIELD_WORDS = {"thickness_km": "thickness", "conductivity_S_per_m": "conductivity", "conductance_S": "conductance"}
-_CF_UNITS = {"km": "km", "S/m": "S m-1", "S": "S"}
 _SPEC_HELP = "expected 'LAYER.FIELD=lo:hi:n[:log]' (e.g. 'ice shell.thickness_km=5:60:100' or 'ocean.conductivity_S_per_m=0.1:30:80:log')"
 #: Probabilities of the 1 and 2 sigma levels of a normal distribution (common practice).
 SIGMA_PROBABILITY = {1: 0.682689492137086, 2: 0.954499736103642}
@@ -259,7 +257,7 @@ def fixed_parameters(model: InteriorModel, varied=()) -> list[str]:
     ``varied`` lists the ``"LAYER.FIELD"`` names that vary; the fill layer
     (no thickness) is described as filling to the centre.
     """
-    from induct.plot.style import format_number as fmt
+    from induct.text import format_number as fmt
 
     varied = set(varied)
     out = []
@@ -289,6 +287,9 @@ def base_value(model: InteriorModel, parameter: str) -> float:
 @dataclass
 class MapResult:
     """A computed map with everything needed to plot and store it.
+
+    The map is written by :mod:`induct.io.map_files` (NetCDF, CSV) and drawn by
+    :func:`induct.plot.maps.plot_map`.
 
     Attributes
     ----------
@@ -382,25 +383,6 @@ class MapResult:
         if self.reference:
             text += f", vs {self.reference}"
         return text
-
-    # ------------------------------------------------------------------ output
-    def to_dataset(self):
-        """An ``xarray.Dataset`` with CF-style coordinates, units and attributes (see :mod:`induct.io.map_files`)."""
-        from induct.io.map_files import map_dataset
-
-        return map_dataset(self)
-
-    def write_netcdf(self, path) -> None:
-        """Write the map as NetCDF-4 (xarray, h5netcdf engine)."""
-        from induct.io.map_files import write_map_netcdf
-
-        write_map_netcdf(self, path)
-
-    def write_csv(self, path) -> None:
-        """Write the map in long format, one row per cell (see :func:`induct.io.map_files.write_map_csv`)."""
-        from induct.io.map_files import write_map_csv
-
-        write_map_csv(self, path)
 
 
 class _MapCells:
@@ -608,10 +590,3 @@ def _quantity(quantity, response, model, reference, period_h, degree, altitude_k
         return np.abs(response) * scale
     r_ref = reference.response(periods_h=[period_h], degree=degree).response[0]
     return np.abs(response - r_ref) * scale
-
-
-def plot_map(result: MapResult, path=None, **kwargs):
-    """Figure of a map; see :func:`induct.io.map_files.plot_map`."""
-    from induct.io.map_files import plot_map as _plot
-
-    return _plot(result, path, **kwargs)

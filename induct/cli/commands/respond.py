@@ -6,13 +6,14 @@ import json
 
 import numpy as np
 
+from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
-from induct.cli.tables import Column, format_table, table_csv
+from induct.cli.tables import Column, format_table
+from induct.io.files import write_text
+from induct.io.tables import table_csv
 
-LIMITS_NOTE = (
-    "Model: spherically symmetric quasi-static induction (mu = mu0), exp(+i w t) convention; "
-    "not included: plasma interaction, asymmetric shells, motional induction."
-)
+#: The model's limits and the conventions of the printed response.
+LIMITS_NOTE = f"{MODEL_LIMITS} Convention: exp(+i w t), mu = mu0 in every layer."
 
 
 def register(subparsers):
@@ -71,8 +72,7 @@ def run(args) -> int:
         if args.csv == "-":
             print(text, end="")
         else:
-            with open(args.csv, "w") as fh:
-                fh.write(text)
+            write_text(args.csv, text)
             print(f"wrote {args.csv}")
         return 0
     model = scenario.model
