@@ -48,6 +48,8 @@ __all__ = [
     "from_flow_frame",
     "check_outside",
     "write_csv",
+    "SERIES_HEADER",
+    "read_field_series",
 ]
 
 #: Supported frames: name -> matrix M with ``v_flow = M @ v_frame``.
@@ -56,6 +58,8 @@ FRAMES = {
     "body": np.array([[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]),
 }
 TRACK_COLUMNS = ("t_s", "x_km", "y_km", "z_km")
+#: Header of a primary-field series (flow frame), read by :func:`read_field_series`.
+SERIES_HEADER = ["t_s", "bx_nT", "by_nT", "bz_nT"]
 RESIDUAL_COLUMNS = TRACK_COLUMNS + ("bx_nT", "by_nT", "bz_nT")
 
 
@@ -300,9 +304,63 @@ def write_csv(path, columns: dict, comments=()) -> None:
     names = list(columns)
     arrays = [np.asarray(columns[n], dtype=float) for n in names]
     n = arrays[0].size if arrays else 0
-    with open(path, "w", encoding="utf-8", newline="") as handle:
+    from induct.io.files import atomic_open
+
+    with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
         for text in comments:
             handle.write("# " + " ".join(str(text).split()) + "\n")
         handle.write(",".join(names) + "\n")
         if n:
             np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+
+
+def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
+    """Read a primary-field series: header ``t_s,bx_nT,by_nT,bz_nT``, then one row per time.
+
+    Lines starting with ``#`` and blank lines are skipped. Times are in s from
+    the epoch of the lines to be fitted, the field in nT in the flow frame.
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    t_s : ndarray, shape (N,)
+        Strictly increasing, N >= 2.
+    b_nT : ndarray, shape (N, 3)
+
+    Raises
+    ------
+    ValueError
+        Wrong header, a row without 4 numbers, non-finite values or times not increasing.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> f = Path(tempfile.mkdtemp()) / "s.csv"
+    >>> _ = f.write_text("t_s,bx_nT,by_nT,bz_nT\\n0,1,2,3\\n60,1.5,2,3\\n")
+    >>> t, b = read_field_series(f)
+    >>> t.tolist(), b.shape
+    ([0.0, 60.0], (2, 3))
+    """
+    rows = []
+    with open(path, newline="", encoding="utf-8") as handle:
+        reader = csv.reader(row for row in handle if row.strip() and not row.lstrip().startswith("#"))
+        header = next(reader, None)
+        if header is None or [h.strip() for h in header] != SERIES_HEADER:
+            raise ValueError(f"{path}: the first line must be the header {','.join(SERIES_HEADER)}, got {header}")
+        for number, row in enumerate(reader, start=2):
+            if len(row) != 4:
+                raise ValueError(f"{path}: data row {number} must have 4 values, got {len(row)}")
+            try:
+                rows.append([float(v) for v in row])
+            except ValueError:
+                raise ValueError(f"{path}: data row {number} is not numeric: {row}") from None
+    data = np.array(rows, dtype=float).reshape(-1, 4)
+    if not np.all(np.isfinite(data)):
+        raise ValueError(f"{path}: values must be finite")
+    if data.shape[0] < 2 or np.any(np.diff(data[:, 0]) <= 0.0):
+        raise ValueError(f"{path}: t_s must be strictly increasing with at least 2 rows")
+    return data[:, 0], data[:, 1:]
