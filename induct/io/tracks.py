@@ -50,6 +50,8 @@ __all__ = [
     "write_csv",
     "SERIES_HEADER",
     "read_field_series",
+    "check_outside_model",
+    "read_residual_tracks",
 ]
 
 #: Supported frames: name -> matrix M with ``v_flow = M @ v_frame``.
@@ -364,3 +366,76 @@ def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
     if data.shape[0] < 2 or np.any(np.diff(data[:, 0]) <= 0.0):
         raise ValueError(f"{path}: t_s must be strictly increasing with at least 2 rows")
     return data[:, 0], data[:, 1:]
+
+
+def check_outside_model(track, model, what: str = "the body") -> None:
+    """Check that every point of ``track`` lies outside a model's body and above its ionosphere sheet.
+
+    Parameters
+    ----------
+    track : Track
+    model : induct.InteriorModel
+    what : str
+        How the body is named in the message.
+
+    Raises
+    ------
+    ValueError
+        Naming the first point inside (row, line, columns).
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> check_outside_model(read_track("ilmare_flyby"), load_scenario("ilmare").model)
+    """
+    check_outside(track, model.radius_km, f"{what} (radius {model.radius_km:g} km)")
+    if model.ionosphere is not None:
+        check_outside(track, model.radius_km + model.ionosphere.altitude_km,
+                      f"the ionosphere sheet (altitude {model.ionosphere.altitude_km:g} km)")
+
+
+def read_residual_tracks(paths, model, frame: str | None = None):
+    """Read one or more residual files and join them, checking every point against the body.
+
+    Parameters
+    ----------
+    paths : sequence of str or Path
+        Files ``t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT`` (see the module docstring).
+    model : induct.InteriorModel
+        The body (its radius and ionosphere sheet bound the points).
+    frame : str, optional
+        Frame of the files when they have no ``frame`` column.
+
+    Returns
+    -------
+    positions_km : ndarray, shape (N, 3)
+        Flow frame, all files joined in order.
+    times_s : ndarray, shape (N,)
+    residuals_nT : ndarray, shape (N, 3)
+        Flow frame.
+    sources : list of str
+        The files.
+    frames : list of str
+        The frame of each file.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> f = Path(tempfile.mkdtemp()) / "r.csv"
+    >>> _ = f.write_text("t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT\\n0,2000,0,0,1,0,0\\n60,2000,10,0,1,0,0\\n")
+    >>> pos, t, b, sources, frames = read_residual_tracks([f], load_scenario("ilmare").model)
+    >>> pos.shape, frames
+    ((2, 3), ['flow'])
+    """
+    pos, t, b, sources, frames = [], [], [], [], []
+    for name in paths:
+        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=frame)
+        check_outside_model(track, model)
+        pos.append(track.positions_km)
+        t.append(track.times_s)
+        b.append(track.vectors_to_flow(RESIDUAL_COLUMNS[4:]))
+        sources.append(track.source)
+        frames.append(track.frame)
+    return np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames
