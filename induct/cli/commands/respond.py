@@ -75,14 +75,21 @@ def run(args) -> int:
             write_text(args.csv, text)
             print(f"wrote {args.csv}")
         return 0
-    model = scenario.model
-    print(f"{scenario.name}: radius {model.radius_km:g} km, degree n = {result.degree}")
-    print(describe_layers(model))
-    print()
-    print(format_table(cols))
-    print()
-    print(LIMITS_NOTE)
+    print(format_response(scenario, result))
     return 0
+
+
+def format_response(scenario, result) -> str:
+    """The text ``induct respond`` prints: the layers, the response table and the model's limits."""
+    model = scenario.model
+    return "\n".join([
+        f"{scenario.name}: radius {model.radius_km:g} km, degree n = {result.degree}",
+        describe_layers(model),
+        "",
+        format_table(response_columns(result)),
+        "",
+        LIMITS_NOTE,
+    ])
 
 
 def ocean_reports(model) -> list[dict]:
