@@ -22,14 +22,11 @@ from induct.constants import SECONDS_PER_HOUR
 from induct.field.analysis import INTERNAL_FIELD_ONLY, planet_drive_analysis, series_drive_analysis
 from induct.field.drive import DriveLine, read_planet_file, write_drive_lines
 
-CAVEAT = INTERNAL_FIELD_ONLY
-
-
 def register(subparsers) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "drive",
         help="driving-field lines at a moon (planet file or primary-field time series)",
-        description=__doc__.split("\n\n")[0] + " " + CAVEAT,
+        description=__doc__.split("\n\n")[0] + " " + INTERNAL_FIELD_ONLY,
     )
     p.add_argument("planet_file", nargs="?", metavar="PLANET.toml", help="planet file (TOML, see induct.field.drive)")
     p.add_argument("--moon", help="moon name (needed when the planet file has several moons)")
@@ -103,7 +100,7 @@ def result_dict(analysis) -> dict:
             }
             for line in spec.lines
         ],
-        "caveat": CAVEAT,
+        "caveat": INTERNAL_FIELD_ONLY,
     }
 
 
@@ -130,7 +127,7 @@ def format_drive_table(analysis) -> str:
     out.append(f"The lines explain {100.0 * spec.fraction_explained:.6g} % of the variance "
                f"(total variance {spec.total_variance_nT2:.6g} nT^2).")
     if info["planet"]:
-        out.append(CAVEAT)
+        out.append(INTERNAL_FIELD_ONLY)
     return "\n".join(out)
 
 
