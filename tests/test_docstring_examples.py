@@ -34,7 +34,7 @@ def test_examples_run(name):
     runner = doctest.DocTestRunner(optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
     failures = []
     for test in finder.find(module, name):
-        result = runner.run(test, out=lambda text: failures.append(text))
+        runner.run(test, out=lambda text: failures.append(text))
     assert not failures, f"{name}: failing examples:\n" + "".join(failures)
 
 

@@ -312,15 +312,16 @@ def run_map_benchmark(size: int = 400, repeat: int = 3, quantity: str = "amplitu
     best = min(first, _best_time(once, int(repeat) - 1)) if repeat > 1 else first
     out_seconds = float("nan")
     if outputs:
-        from induct.io.map_files import plot_map
+        from induct.io.map_files import write_map_csv, write_map_netcdf
+        from induct.plot.maps import plot_map
 
         with tempfile.TemporaryDirectory() as tmp:
             prefix = Path(tmp) / "map"
             t0 = time.perf_counter()
             plot_map(result, prefix)
-            result.write_csv(prefix.with_suffix(".csv"))
+            write_map_csv(result, prefix.with_suffix(".csv"))
             try:
-                result.write_netcdf(prefix.with_suffix(".nc"))
+                write_map_netcdf(result, prefix.with_suffix(".nc"))
             except ImportError:
                 pass
             out_seconds = time.perf_counter() - t0

@@ -38,7 +38,7 @@ from induct.brine import solutions
 from induct.brine import water
 from induct.brine.flags import ExtrapolationFlag
 from induct.brine.freezing import SA_PER_SP, T0_K
-from induct.brine.names import SOLUTES, get_solute
+from induct.brine.names import get_solute
 
 SP_LIMIT = 100.0
 T_LIMITS_C = (-40.0, 40.0)

@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from induct.brine import freezing
-from induct.brine.names import SOLUTES, get_solute
+from induct.brine.names import get_solute
 
 #: Hard temperature limits (degC) of the conductivity models (freezing point still applies).
 T_MAX_SOLUTIONS_C = 60.0

@@ -48,7 +48,7 @@ class SoluteRegistry(Mapping):
     def __repr__(self) -> str:
         return f"SoluteRegistry({', '.join(self._records)})"
 
-    def _add(self, solute: Solute) -> None:
+    def _add(self, solute) -> None:
         if not hasattr(solute, "lookup_names") or not hasattr(solute, "problems"):
             raise TypeError(f"register a Solute record, got {type(solute).__name__}")
         problems = solute.problems()
@@ -62,7 +62,7 @@ class SoluteRegistry(Mapping):
         for n in solute.lookup_names:
             self._lookup[n] = solute.name
 
-    def _remove(self, name: str) -> Solute:
+    def _remove(self, name: str):
         solute = self[name]
         del self._records[solute.name]
         for n in solute.lookup_names:

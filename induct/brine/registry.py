@@ -60,7 +60,7 @@ Examples
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterator, Mapping
+from collections.abc import Callable
 from dataclasses import dataclass, fields
 
 from induct.brine.names import SOLUTES, SoluteRegistry, get_solute

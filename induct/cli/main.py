@@ -19,6 +19,7 @@ import importlib
 import sys
 
 from induct import __version__
+from induct.constants import MODEL_LIMITS
 
 #: Sub-command modules, in the order ``induct --help`` lists them.
 COMMANDS = (
@@ -40,9 +41,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="induct",
         description=(
-            "Electromagnetic induction in icy moons with subsurface oceans. "
-            "Model: quasi-static induction in a spherically symmetric, radially layered body; "
-            "plasma interaction, asymmetric shells and motional induction are not included."
+            "Electromagnetic induction in icy moons with subsurface oceans. " + MODEL_LIMITS
         ),
     )
     parser.add_argument("--version", action="version", version=f"induct {__version__}")

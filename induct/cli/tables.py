@@ -1,15 +1,13 @@
-"""Plain-text and CSV tables with units, for command-line output."""
+"""Plain-text tables with units, for command-line output (their CSV form: :func:`induct.io.tables.table_csv`)."""
 
 from __future__ import annotations
 
-import csv
-import io
 from dataclasses import dataclass
 from typing import Sequence
 
 import numpy as np
 
-__all__ = ["Column", "format_table", "table_csv"]
+__all__ = ["Column", "format_table"]
 
 
 @dataclass(frozen=True)
@@ -47,26 +45,3 @@ def format_table(columns: Sequence[Column]) -> str:
     for i in range(nrow):
         lines.append("  ".join(col[i].rjust(w) for col, w in zip(cells, widths)))
     return "\n".join(lines)
-
-
-def table_csv(columns: Sequence[Column]) -> str:
-    """CSV text: header names carry the unit as a suffix, e.g. ``period_h``; full precision values."""
-    buf = io.StringIO()
-    writer = csv.writer(buf, lineterminator="\n")
-    writer.writerow([_csv_name(c) for c in columns])
-    nrow = len(columns[0].values) if columns else 0
-    for i in range(nrow):
-        writer.writerow([_csv_value(c.values[i]) for c in columns])
-    return buf.getvalue()
-
-
-def _csv_name(c: Column) -> str:
-    base = c.header.strip().replace(" ", "_")
-    unit = c.unit.replace("/", "_per_").replace(" ", "")
-    return f"{base}_{unit}" if unit else base
-
-
-def _csv_value(v) -> str:
-    if isinstance(v, str):
-        return v
-    return repr(float(v))

@@ -68,6 +68,7 @@ __all__ = [
     "induced_field",
     "primary_field",
     "check_positions_times",
+    "check_lines",
     "planet_gradient_lines",
 ]
 
@@ -374,7 +375,33 @@ def _line_arrays(lines, kind, cls):
     return lines, periods
 
 
-def _check_lines(lines):
+def check_lines(lines) -> tuple[np.ndarray, np.ndarray]:
+    """Check driving lines and return their periods and complex amplitudes as arrays.
+
+    Parameters
+    ----------
+    lines : sequence of induct.field.drive.DriveLine
+        At least one line; distinct periods.
+
+    Returns
+    -------
+    periods_s : ndarray, shape (L,)
+        Periods (s).
+    amplitudes_nT : ndarray of complex, shape (L, 3)
+        Complex amplitudes B_k (nT, flow frame), ``B(t) = Re sum_k B_k exp(i w_k t)``.
+
+    Raises
+    ------
+    ValueError
+        No lines, an item that is not a DriveLine, or repeated periods.
+
+    Examples
+    --------
+    >>> from induct.field.drive import DriveLine
+    >>> periods, amps = check_lines([DriveLine.from_amplitude_phase(10.0, [1.0, 0.0, 0.0], [0.0, 0.0, 0.0])])
+    >>> periods.tolist(), amps.shape
+    ([36000.0], (1, 3))
+    """
     from induct.field.drive import DriveLine
 
     lines, periods = _line_arrays(lines, "lines", DriveLine)
@@ -427,7 +454,7 @@ def induced_field(model, lines, positions_km, times_s, *, degree2=None) -> np.nd
 
     if not isinstance(model, InteriorModel):
         raise ValueError(f"model must be an induct.InteriorModel, got {type(model).__name__}")
-    periods, amps = _check_lines(lines)
+    periods, amps = check_lines(lines)
     inside = "the body" if model.ionosphere is None else "the ionosphere sheet"
     pos, t = check_positions_times(positions_km, times_s, _valid_radius_km(model), inside_what=inside)
     r1 = model.response(periods_s=periods, degree=1).response
@@ -460,7 +487,7 @@ def primary_field(lines, positions_km, times_s, *, degree2=None) -> np.ndarray:
     ndarray, shape (N, 3)
         Field (nT).
     """
-    periods, amps = _check_lines(lines)
+    periods, amps = check_lines(lines)
     pos, t = check_positions_times(positions_km, times_s)
     out = uniform_field_nT(t, amps, periods)
     if degree2 is not None:

@@ -386,9 +386,9 @@ def fit_responses(
     ValueError
         Bad shapes or values (naming the row), fewer data than unknowns, bad thresholds.
     """
-    from induct.flyby.induced import _check_lines
+    from induct.flyby.induced import check_lines
 
-    periods, amps = _check_lines(lines)
+    periods, amps = check_lines(lines)
     labels = [ln.label or f"{ln.period_h:.6g} h" for ln in lines]
     if isinstance(radius_km, bool) or not (math.isfinite(radius_km) and radius_km > 0.0):
         raise ValueError(f"radius_km must be finite and > 0, got {radius_km!r}")

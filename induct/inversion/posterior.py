@@ -27,6 +27,7 @@ from typing import Sequence
 import numpy as np
 from scipy import special
 
+from induct.constants import MODEL_LIMITS
 from induct.inversion.priors import Parameter
 
 __all__ = [
@@ -38,7 +39,6 @@ __all__ = [
     "find_tradeoffs",
     "resolution_notes",
     "INTERVAL_KIND",
-    "NOT_MODELLED",
     "CORRELATION_THRESHOLD",
     "SPAN_THRESHOLD",
 ]
@@ -48,11 +48,6 @@ TWO_SIGMA_PROBABILITY = math.erf(2.0 / math.sqrt(2.0))
 INTERVAL_KIND = "equal-tailed"
 CORRELATION_THRESHOLD = 0.7
 SPAN_THRESHOLD = 0.7
-NOT_MODELLED = (
-    "Model: spherically symmetric quasi-static induction in a radially layered body. Not included: plasma "
-    "interaction (Alfven-wing currents), asymmetric or tidally deformed shells, depth-dependent ocean "
-    "conductivity within a layer, motional induction from ocean flow."
-)
 
 
 def two_sigma_delta_chi2(n_free: int) -> float:
@@ -185,7 +180,7 @@ class PosteriorResult:
                 "dropped": int(self.two_sigma.dropped),
             },
             "diagnostics": _jsonable(self.diagnostics),
-            "not_modelled": NOT_MODELLED,
+            "not_modelled": MODEL_LIMITS,
         }
 
 

@@ -27,7 +27,6 @@ gravity, temperature profile and sub-layers.
 from __future__ import annotations
 
 import warnings
-from dataclasses import dataclass
 from typing import Mapping, Sequence
 
 import numpy as np

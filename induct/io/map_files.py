@@ -1,7 +1,9 @@
-"""Writing a :class:`~induct.planning.maps.MapResult`: NetCDF (CF-style), long-format CSV and the figure.
+"""Writing a :class:`~induct.planning.maps.MapResult`: NetCDF (CF-style) and long-format CSV.
 
 NetCDF needs the optional packages xarray and h5netcdf (extra ``netcdf``);
-:func:`require_netcdf` says how to install them when they are missing.
+:func:`require_netcdf` says how to install them when they are missing. The
+figure of a map is drawn by :func:`induct.plot.maps.plot_map`. Files are
+written to a temporary name in the target folder and moved into place.
 """
 
 from __future__ import annotations
@@ -14,10 +16,11 @@ import numpy as np
 
 from induct import __version__
 from induct.model.parameters import FIELDS
+from induct.constants import MODEL_LIMITS
+from induct.io.files import atomic_open, atomic_path
 from induct.planning.maps import QUANTITIES, MapResult
 
-__all__ = ["map_dataset", "write_map_netcdf", "write_map_csv", "plot_map", "cf_name", "require_netcdf"]
-
+__all__ = ["map_dataset", "write_map_netcdf", "write_map_csv", "write_map_files", "cf_name", "require_netcdf"]
 
 def cf_name(parameter: str) -> str:
     """A NetCDF/CF-safe variable name for ``"LAYER.FIELD"`` (letters, digits, underscores)."""
@@ -50,8 +53,6 @@ def map_dataset(result: MapResult):
     thresholds. Global attributes record the body, period, degree, point,
     drive, reference, fixed parameters, conventions and the model's limits.
     """
-    from induct.plot.style import LIMITS_CAPTION
-
     xr = require_netcdf()[0]
     xname, yname = cf_name(result.x.parameter), cf_name(result.y.parameter)
     coords = {}
@@ -98,7 +99,7 @@ def map_dataset(result: MapResult):
         "y_parameter": result.y.parameter,
         "fixed_parameters": "; ".join(result.fixed),
         "time_convention": "exp(+i w t); R_n = A exp(i phi), phase lag phi in degrees",
-        "comment": LIMITS_CAPTION,
+        "comment": MODEL_LIMITS,
     }
     for key in ("altitude_km", "drive_nT", "reference", "noise_nT", "k", "detection_threshold_nT"):
         if getattr(result, key) is not None:
@@ -108,7 +109,9 @@ def map_dataset(result: MapResult):
 
 def write_map_netcdf(result: MapResult, path) -> None:
     """Write the map as NetCDF-4 through xarray's h5netcdf engine (see :func:`map_dataset`)."""
-    map_dataset(result).to_netcdf(path, engine="h5netcdf")
+    dataset = map_dataset(result)
+    with atomic_path(path) as tmp:
+        dataset.to_netcdf(tmp, engine="h5netcdf")
 
 
 def write_map_csv(result: MapResult, path) -> None:
@@ -129,81 +132,36 @@ def write_map_csv(result: MapResult, path) -> None:
     if result.chi_square is not None:
         cols.append(result.chi_square.ravel())
         header.append("chi_square")
-    with open(path, "w", newline="") as fh:
+    with atomic_open(path, "w", newline="") as fh:
         writer = csv.writer(fh, lineterminator="\n")
         writer.writerow(header)
         writer.writerows(zip(*([repr(float(v)) for v in c] for c in cols)))
 
 
-def plot_map(result: MapResult, path=None, *, levels: int = 12, formats=("png", "pdf")):
-    """Filled-contour figure of a map with labelled contour lines.
-
-    The title gives the body, quantity, period (and altitude, drive and
-    reference for the nT quantities) and, on a second line, the parameters held
-    fixed; the model-limits caption sits at the bottom. Measurements add the
-    1 and 2 sigma regions (solid and dashed outlines, see
-    :func:`induct.planning.maps.consistency_levels`), a noise level
-    the detectability contour (dotted), and the model's own parameters are
-    marked with a star. Colormap: cividis (perceptually uniform, colour-blind
-    safe); positive data spanning more than two decades get logarithmic levels.
+def write_map_files(result: MapResult, prefix, *, netcdf: bool = True) -> list:
+    """Write ``PREFIX.csv`` (:func:`write_map_csv`) and, with ``netcdf``, ``PREFIX.nc`` (:func:`write_map_netcdf`).
 
     Parameters
     ----------
     result : MapResult
-    path : str or Path, optional
-        Output path without suffix; written in each of ``formats`` when given.
-    levels : int
-        Approximate number of filled contour levels.
-    formats : tuple of str
-        File formats to write (PNG and vector PDF by default).
+    prefix : str or Path
+        Output prefix; the suffixes are appended (``maps/a`` gives ``maps/a.csv``).
+    netcdf : bool
+        Also write the NetCDF file (needs xarray, h5netcdf and h5py).
 
     Returns
     -------
-    matplotlib.figure.Figure when ``path`` is None, else the list of written paths.
+    list of Path
+        The files written, CSV first.
     """
-    from matplotlib.lines import Line2D
+    from pathlib import Path
 
-    from induct.plot import style as plotting
-
-    fig, ax = plotting.figure(size=(7.0, 5.6))
-    xv, yv, z = result.x_values, result.y_values, result.values
-    bounds = {"amplitude": (0.0, 1.0), "phase_lag_deg": (0.0, 90.0)}.get(result.quantity, (0.0, np.inf))
-    cs = plotting.filled_contours(ax, xv, yv, z, levels=levels, log_x=result.x.log, log_y=result.y.log, bounds=bounds)
-    plotting.contour_colorbar(fig, cs, ax, result.label)
-    handles = []
-    if result.chi_square is not None and np.isfinite(result.chi_square).any():
-        word = "confidence region" if result.region == "confidence" else "consistent (goodness of fit)"
-        for nsig, style in ((1, "-"), (2, "--")):
-            level = result.chi_square_levels[nsig]
-            reached = np.nanmin(result.chi_square) <= level
-            if reached:
-                ax.contour(xv, yv, result.chi_square, levels=[level], colors=plotting.HIGHLIGHT, linewidths=2.0, linestyles=style)
-            label = f"{word} {nsig}$\\sigma$" + ("" if reached else " (nowhere)")
-            handles.append(Line2D([], [], color=plotting.HIGHLIGHT, lw=2.0, ls=style, label=label))
-        periods = ", ".join(f"{p:g}" for p in result.measurement_periods_h)
-        best = np.nanmin(result.chi_square)
-        handles.append(Line2D([], [], ls="none", label=f"data at {periods} h; best $\\chi^2$ = {best:.3g} for {result.n_data} values"))
-    if result.detection_threshold_nT is not None:
-        t = result.detection_threshold_nT
-        if np.nanmin(z) < t < np.nanmax(z):
-            ax.contour(xv, yv, z, levels=[t], colors="white", linewidths=2.2, linestyles=":")
-        where = " (all cells above)" if np.nanmin(z) >= t else " (all cells below)" if np.nanmax(z) <= t else ""
-        handles.append(Line2D([], [], color="white", lw=2.2, ls=":", label=f"{result.k:g} x noise = {t:g} nT{where}"))
-    bx, by = result.base_point
-    if xv[0] <= bx <= xv[-1] and yv[0] <= by <= yv[-1]:
-        ax.plot([bx], [by], marker="*", ms=14, mfc="white", mec="black", ls="none")
-        handles.append(Line2D([], [], marker="*", ms=12, mfc="white", mec="black", ls="none", label=f"{result.body} model"))
-    if handles:
-        leg = ax.legend(handles=handles, loc="best", framealpha=0.85)
-        leg.get_frame().set_facecolor("0.55")
-        for text in leg.get_texts():
-            text.set_color("white")
-    ax.set_xlabel(result.x.label)
-    ax.set_ylabel(result.y.label)
-    ax.grid(False)
-    plotting.two_line_title(ax, f"{result.body}: {result.describe()}", "fixed: " + "; ".join(result.fixed))
-    if np.isnan(z).any():
-        ax.set_facecolor("0.85")
-    if path is None:
-        return fig
-    return plotting.save_figure(fig, path, formats=formats)
+    prefix = Path(prefix)
+    csv_path = prefix.with_name(prefix.name + ".csv")
+    write_map_csv(result, csv_path)
+    written = [csv_path]
+    if netcdf:
+        nc_path = prefix.with_name(prefix.name + ".nc")
+        write_map_netcdf(result, nc_path)
+        written.append(nc_path)
+    return written

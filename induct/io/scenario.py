@@ -188,6 +188,15 @@ def load_scenario(name_or_path) -> Scenario:
     Returns
     -------
     Scenario
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> sc = load_scenario("ilmare")             # a bundled fictional scenario
+    >>> sc.model.layer_names
+    ('ice shell', 'ocean', 'mantle', 'core')
+    >>> sc.model.response(periods_h=[12.12]).amplitude.round(3)
+    array([0.909])
     """
     path = resolve_scenario_path(name_or_path)
     return parse_scenario(read_toml(path), path)

@@ -48,6 +48,10 @@ __all__ = [
     "from_flow_frame",
     "check_outside",
     "write_csv",
+    "SERIES_HEADER",
+    "read_field_series",
+    "check_outside_model",
+    "read_residual_tracks",
 ]
 
 #: Supported frames: name -> matrix M with ``v_flow = M @ v_frame``.
@@ -56,6 +60,8 @@ FRAMES = {
     "body": np.array([[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]),
 }
 TRACK_COLUMNS = ("t_s", "x_km", "y_km", "z_km")
+#: Header of a primary-field series (flow frame), read by :func:`read_field_series`.
+SERIES_HEADER = ["t_s", "bx_nT", "by_nT", "bz_nT"]
 RESIDUAL_COLUMNS = TRACK_COLUMNS + ("bx_nT", "by_nT", "bz_nT")
 
 
@@ -300,9 +306,136 @@ def write_csv(path, columns: dict, comments=()) -> None:
     names = list(columns)
     arrays = [np.asarray(columns[n], dtype=float) for n in names]
     n = arrays[0].size if arrays else 0
-    with open(path, "w", encoding="utf-8", newline="") as handle:
+    from induct.io.files import atomic_open
+
+    with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
         for text in comments:
             handle.write("# " + " ".join(str(text).split()) + "\n")
         handle.write(",".join(names) + "\n")
         if n:
             np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+
+
+def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
+    """Read a primary-field series: header ``t_s,bx_nT,by_nT,bz_nT``, then one row per time.
+
+    Lines starting with ``#`` and blank lines are skipped. Times are in s from
+    the epoch of the lines to be fitted, the field in nT in the flow frame.
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    t_s : ndarray, shape (N,)
+        Strictly increasing, N >= 2.
+    b_nT : ndarray, shape (N, 3)
+
+    Raises
+    ------
+    ValueError
+        Wrong header, a row without 4 numbers, non-finite values or times not increasing.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> f = Path(tempfile.mkdtemp()) / "s.csv"
+    >>> _ = f.write_text("t_s,bx_nT,by_nT,bz_nT\\n0,1,2,3\\n60,1.5,2,3\\n")
+    >>> t, b = read_field_series(f)
+    >>> t.tolist(), b.shape
+    ([0.0, 60.0], (2, 3))
+    """
+    rows = []
+    with open(path, newline="", encoding="utf-8") as handle:
+        reader = csv.reader(row for row in handle if row.strip() and not row.lstrip().startswith("#"))
+        header = next(reader, None)
+        if header is None or [h.strip() for h in header] != SERIES_HEADER:
+            raise ValueError(f"{path}: the first line must be the header {','.join(SERIES_HEADER)}, got {header}")
+        for number, row in enumerate(reader, start=2):
+            if len(row) != 4:
+                raise ValueError(f"{path}: data row {number} must have 4 values, got {len(row)}")
+            try:
+                rows.append([float(v) for v in row])
+            except ValueError:
+                raise ValueError(f"{path}: data row {number} is not numeric: {row}") from None
+    data = np.array(rows, dtype=float).reshape(-1, 4)
+    if not np.all(np.isfinite(data)):
+        raise ValueError(f"{path}: values must be finite")
+    if data.shape[0] < 2 or np.any(np.diff(data[:, 0]) <= 0.0):
+        raise ValueError(f"{path}: t_s must be strictly increasing with at least 2 rows")
+    return data[:, 0], data[:, 1:]
+
+
+def check_outside_model(track, model, what: str = "the body") -> None:
+    """Check that every point of ``track`` lies outside a model's body and above its ionosphere sheet.
+
+    Parameters
+    ----------
+    track : Track
+    model : induct.InteriorModel
+    what : str
+        How the body is named in the message.
+
+    Raises
+    ------
+    ValueError
+        Naming the first point inside (row, line, columns).
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> check_outside_model(read_track("ilmare_flyby"), load_scenario("ilmare").model)
+    """
+    check_outside(track, model.radius_km, f"{what} (radius {model.radius_km:g} km)")
+    if model.ionosphere is not None:
+        check_outside(track, model.radius_km + model.ionosphere.altitude_km,
+                      f"the ionosphere sheet (altitude {model.ionosphere.altitude_km:g} km)")
+
+
+def read_residual_tracks(paths, model, frame: str | None = None):
+    """Read one or more residual files and join them, checking every point against the body.
+
+    Parameters
+    ----------
+    paths : sequence of str or Path
+        Files ``t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT`` (see the module docstring).
+    model : induct.InteriorModel
+        The body (its radius and ionosphere sheet bound the points).
+    frame : str, optional
+        Frame of the files when they have no ``frame`` column.
+
+    Returns
+    -------
+    positions_km : ndarray, shape (N, 3)
+        Flow frame, all files joined in order.
+    times_s : ndarray, shape (N,)
+    residuals_nT : ndarray, shape (N, 3)
+        Flow frame.
+    sources : list of str
+        The files.
+    frames : list of str
+        The frame of each file.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> f = Path(tempfile.mkdtemp()) / "r.csv"
+    >>> _ = f.write_text("t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT\\n0,2000,0,0,1,0,0\\n60,2000,10,0,1,0,0\\n")
+    >>> pos, t, b, sources, frames = read_residual_tracks([f], load_scenario("ilmare").model)
+    >>> pos.shape, frames
+    ((2, 3), ['flow'])
+    """
+    pos, t, b, sources, frames = [], [], [], [], []
+    for name in paths:
+        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=frame)
+        check_outside_model(track, model)
+        pos.append(track.positions_km)
+        t.append(track.times_s)
+        b.append(track.vectors_to_flow(RESIDUAL_COLUMNS[4:]))
+        sources.append(track.source)
+        frames.append(track.frame)
+    return np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames

@@ -170,6 +170,15 @@ class InteriorModel:
         the innermost layer, a fill layer that is not innermost, layers that
         reach past the centre, or thicknesses that do not sum to the radius
         when no layer fills to the centre.
+
+    Examples
+    --------
+    >>> from induct import InteriorModel, Layer
+    >>> moon = InteriorModel(1540.0, [Layer("ice shell", 1e-6, 20.0), Layer("ocean", 2.8, 95.0),
+    ...                               Layer("mantle", 0.01, 825.0), Layer("core", 1e5)], name="Ilmare")
+    >>> res = moon.response(periods_h=[12.12, 84.7])
+    >>> res.amplitude.round(3), res.phase_lag_deg.round(2)
+    (array([0.909, 0.86 ]), array([ 3.38, 16.97]))
     """
 
     def __init__(

@@ -65,7 +65,6 @@ from __future__ import annotations
 import itertools
 import math
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 

@@ -32,8 +32,7 @@ __all__ = [
     "amplitude_phase_diagram",
     "default_families",
     "measurement_ellipses",
-    "plot_diagram",
-    "write_diagram_csv",
+    "measured_periods_h",
 ]
 
 #: Relative tolerance for matching a measurement's period to a diagram panel.
@@ -66,6 +65,9 @@ class DiagramResult:
         Parameters held fixed.
     base_point : tuple of float
         The model's own values of the two parameters.
+
+    The diagram is drawn by :func:`induct.plot.diagrams.plot_diagram` and its
+    curve points written by :func:`induct.io.tables.write_diagram_csv`.
     """
 
     periods_h: np.ndarray
@@ -80,6 +82,16 @@ class DiagramResult:
     body: str
     fixed: list = field(default_factory=list)
     base_point: tuple = ()
+
+    @property
+    def first_samples(self) -> np.ndarray:
+        """Values of the first parameter along the curves of constant second parameter, shape (K,)."""
+        return _dense(self.first, self.second_curves.shape[-1])
+
+    @property
+    def second_samples(self) -> np.ndarray:
+        """Values of the second parameter along the curves of constant first parameter, shape (K,)."""
+        return _dense(self.second, self.first_curves.shape[-1])
 
 
 def default_families(model: InteriorModel) -> tuple[AxisSpec, AxisSpec]:
@@ -186,6 +198,27 @@ def amplitude_phase_diagram(
     )
 
 
+def measured_periods_h(measurements, degree: int = 1) -> np.ndarray:
+    """The distinct periods (h) of the measured entries of one degree, sorted: the panels of a diagram of the data.
+
+    Parameters
+    ----------
+    measurements : induct.io.measurements.Measurements
+    degree : int
+
+    Returns
+    -------
+    ndarray, shape (P,)
+
+    Examples
+    --------
+    >>> from induct.io.measurements import load_measurements
+    >>> measured_periods_h(load_measurements("ilmare_measured")).tolist()
+    [6.06, 12.12, 84.7]
+    """
+    return np.unique(measurements.period_h[measurements.degree == degree])
+
+
 def measurement_ellipses(measurements, period_h: float, degree: int = 1, rtol: float = PERIOD_RTOL):
     """Measured points and covariances in the (phase lag, amplitude) plane for one period.
 
@@ -223,138 +256,3 @@ def measurement_ellipses(measurements, period_h: float, degree: int = 1, rtol: f
             jac = np.array([[-im / a**2 * deg, re / a**2 * deg], [re / a, im / a]])
             out.append((np.array([math.degrees(math.atan2(im, re)), a]), jac @ c @ jac.T))
     return out
-
-
-def plot_diagram(result: DiagramResult, path=None, *, measurements=None, formats=("png", "pdf")):
-    """Draw the amplitude-phase diagram, one panel per period.
-
-    Curves of constant first parameter are solid and coloured by value
-    (cividis, dark to light, legend); curves of constant second parameter are
-    thin dashed grey lines labelled at their ends. The unchanged model is a
-    star; measurements are points with 1 sigma (solid) and 2 sigma (dashed)
-    error ellipses. The model-limits caption sits at the bottom.
-
-    Parameters
-    ----------
-    result : DiagramResult
-    path : str or Path, optional
-        Output path without suffix; written in each of ``formats`` when given.
-    measurements : induct.io.measurements.Measurements, optional
-        Measured responses; entries whose period matches a panel are drawn there.
-    formats : tuple of str
-
-    Returns
-    -------
-    matplotlib.figure.Figure when ``path`` is None, else the list of written paths.
-    """
-    import matplotlib
-    from matplotlib.lines import Line2D
-
-    from induct.plot import style as plotting
-
-    npanel = result.periods_h.size
-    ncols = min(npanel, 3)
-    nrows = math.ceil(npanel / ncols)
-    fig, axes = plotting.figure(nrows, ncols, size=(4.0 * ncols, 4.0 * nrows + 0.9), squeeze=False)
-    cmap = matplotlib.colormaps[plotting.SEQUENTIAL_CMAP]
-    colours = [cmap(0.8 * i / max(1, result.first_values.size - 1)) for i in range(result.first_values.size)]
-    unit1, unit2 = result.first.unit, result.second.unit
-    drawn = 0
-    for p, ax in enumerate(axes.ravel()):
-        if p >= npanel:
-            ax.set_visible(False)
-            continue
-        labels = []
-        for r, v in zip(result.second_curves[p], result.second_values):
-            ok = np.isfinite(r)
-            if not ok.any():
-                continue
-            x, y = np.degrees(np.angle(r[ok])), np.abs(r[ok])
-            ax.plot(x, y, color="0.45", lw=0.9, ls="--", zorder=2)
-            labels.append((f"{plotting.format_number(v)} {unit2}", x[-1], y[-1]))
-        for r, c in zip(result.first_curves[p], colours):
-            ok = np.isfinite(r)
-            ax.plot(np.degrees(np.angle(r[ok])), np.abs(r[ok]), color=c, lw=2.0, zorder=3)
-        m = result.model_response[p]
-        ax.plot([np.degrees(np.angle(m))], [abs(m)], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
-        if measurements is not None:
-            for center, cov in measurement_ellipses(measurements, result.periods_h[p], result.degree):
-                drawn += 1
-                ax.errorbar([center[0]], [center[1]], fmt="o", color=plotting.HIGHLIGHT, ms=5, zorder=7)
-                for nsig, ls in ((1, "-"), (2, "--")):
-                    plotting.covariance_ellipse(ax, center, cov, nsig, color=plotting.HIGHLIGHT, ls=ls, zorder=7)
-        ax.set_title(f"period {result.periods_h[p]:g} h", fontsize=10)
-        ax.set_xlabel("phase lag (deg)")
-        ax.set_ylabel("amplitude A = |R|" if result.degree == 1 else f"amplitude A = |R_{result.degree}|")
-        ax.margins(x=0.12, y=0.06)
-        _place_labels(ax, labels)
-    if measurements is not None and drawn < measurements.n_entries:
-        warnings.warn(
-            f"{measurements.n_entries - drawn} measurement(s) match no panel's period or degree and are not drawn",
-            stacklevel=2,
-        )
-    handles = [Line2D([], [], color=c, lw=2.0, label=f"{plotting.format_number(v)} {unit1}") for v, c in zip(result.first_values, colours)]
-    handles.append(Line2D([], [], color="0.45", lw=0.9, ls="--", label=f"constant {result.second.label.rsplit(' (', 1)[0]}"))
-    handles.append(Line2D([], [], marker="*", ms=12, mfc="white", mec="black", ls="none", label=f"{result.body} model"))
-    if measurements is not None:
-        handles.append(Line2D([], [], color=plotting.HIGHLIGHT, marker="o", lw=1.4, label="measured, 1$\\sigma$ ellipse"))
-        handles.append(Line2D([], [], color=plotting.HIGHLIGHT, lw=1.4, ls="--", label="2$\\sigma$ ellipse"))
-    fig.legend(
-        handles=handles,
-        title=f"constant {result.first.label}",
-        loc="center left",
-        bbox_to_anchor=(1.0, 0.5),
-        fontsize=8.5,
-        title_fontsize=8.5,
-    )
-    title = f"{result.body}: amplitude-phase diagram (degree {result.degree})"
-    sub = "fixed: " + "; ".join(result.fixed)
-    fig.suptitle(plotting.wrap(title, 100) + "\n" + plotting.wrap(sub, 120), fontsize=10)
-    fig.tight_layout(rect=(0, 0.03, 1, 1))
-    if path is None:
-        return fig
-    return plotting.save_figure(fig, path, formats=formats)
-
-
-def _place_labels(ax, labels, min_dx_px: float = 45.0, min_dy_px: float = 11.0) -> None:
-    """Write curve labels at their anchors, leaving out any that would overlap one already written."""
-    ax.get_xlim(), ax.get_ylim()  # settle the autoscaled limits before using the transform
-    placed = []
-    for text, x, y in labels:
-        px, py = ax.transData.transform((x, y))
-        if any(abs(px - qx) < min_dx_px and abs(py - qy) < min_dy_px for qx, qy in placed):
-            continue
-        placed.append((px, py))
-        ax.annotate(
-            text,
-            (x, y),
-            xytext=(3, -3),
-            textcoords="offset points",
-            fontsize=7.5,
-            color="0.25",
-            va="top",
-            bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.7},
-            zorder=5,
-        )
-
-
-def write_diagram_csv(result: DiagramResult, path) -> None:
-    """Write every curve point: period_h, family, the two parameters, amplitude, phase_lag_deg.
-
-    ``family`` is ``"constant FIRST"`` or ``"constant SECOND"`` (parameter
-    names as given); one row per point, full precision.
-    """
-    import csv
-
-    f_dense = _dense(result.first, result.first_curves.shape[-1])
-    s_dense = _dense(result.second, result.second_curves.shape[-1])
-    with open(path, "w", newline="") as fh:
-        writer = csv.writer(fh, lineterminator="\n")
-        writer.writerow(["period_h", "family", result.first.parameter, result.second.parameter, "amplitude", "phase_lag_deg"])
-        for p, period in enumerate(result.periods_h):
-            for v, curve in zip(result.first_values, result.first_curves[p]):
-                for s, r in zip(s_dense, curve):
-                    writer.writerow([repr(float(period)), f"constant {result.first.parameter}", repr(float(v)), repr(float(s)), repr(float(abs(r))), repr(float(np.degrees(np.angle(r))))])
-            for v, curve in zip(result.second_values, result.second_curves[p]):
-                for f, r in zip(f_dense, curve):
-                    writer.writerow([repr(float(period)), f"constant {result.second.parameter}", repr(float(f)), repr(float(v)), repr(float(abs(r))), repr(float(np.degrees(np.angle(r))))])

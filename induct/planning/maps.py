@@ -57,7 +57,7 @@ import numpy as np
 from induct.constants import SECONDS_PER_HOUR
 from induct.parallel.execution import DEFAULT_TASK_SIZE, run_reduction
 from induct.model.interior import InteriorModel
-from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, parameter_value, split_parameter
+from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, parameter_value
 from induct.model.response import check_degree
 
 __all__ = [
@@ -69,7 +69,6 @@ __all__ = [
     "consistency_levels",
     "dipole_factor",
     "fixed_parameters",
-    "plot_map",
 ]
 
 #: Map quantities: name -> (label, unit shown on figures, CF unit, needs a driving amplitude).
@@ -226,7 +225,7 @@ def fixed_parameters(model: InteriorModel, varied=()) -> list[str]:
     ``varied`` lists the ``"LAYER.FIELD"`` names that vary; the fill layer
     (no thickness) is described as filling to the centre.
     """
-    from induct.plot.style import format_number as fmt
+    from induct.text import format_number as fmt
 
     varied = set(varied)
     out = []
@@ -247,6 +246,9 @@ def fixed_parameters(model: InteriorModel, varied=()) -> list[str]:
 @dataclass
 class MapResult:
     """A computed map with everything needed to plot and store it.
+
+    The map is written by :mod:`induct.io.map_files` (NetCDF, CSV) and drawn by
+    :func:`induct.plot.maps.plot_map`.
 
     Attributes
     ----------
@@ -340,25 +342,6 @@ class MapResult:
         if self.reference:
             text += f", vs {self.reference}"
         return text
-
-    # ------------------------------------------------------------------ output
-    def to_dataset(self):
-        """An ``xarray.Dataset`` with CF-style coordinates, units and attributes (see :mod:`induct.io.map_files`)."""
-        from induct.io.map_files import map_dataset
-
-        return map_dataset(self)
-
-    def write_netcdf(self, path) -> None:
-        """Write the map as NetCDF-4 (xarray, h5netcdf engine)."""
-        from induct.io.map_files import write_map_netcdf
-
-        write_map_netcdf(self, path)
-
-    def write_csv(self, path) -> None:
-        """Write the map in long format, one row per cell (see :func:`induct.io.map_files.write_map_csv`)."""
-        from induct.io.map_files import write_map_csv
-
-        write_map_csv(self, path)
 
 
 class _MapCells:
@@ -566,10 +549,3 @@ def _quantity(quantity, response, model, reference, period_h, degree, altitude_k
         return np.abs(response) * scale
     r_ref = reference.response(periods_h=[period_h], degree=degree).response[0]
     return np.abs(response - r_ref) * scale
-
-
-def plot_map(result: MapResult, path=None, **kwargs):
-    """Figure of a map; see :func:`induct.io.map_files.plot_map`."""
-    from induct.io.map_files import plot_map as _plot
-
-    return _plot(result, path, **kwargs)

@@ -27,9 +27,8 @@ import numpy as np
 
 from induct.constants import SECONDS_PER_HOUR
 from induct.planning.maps import dipole_factor
-from induct.cli.tables import Column
 
-__all__ = ["SeparationResult", "separation", "separation_columns", "plot_separation", "max_detectable_altitude_km"]
+__all__ = ["SeparationResult", "SeparationSummary", "separation", "separation_summary", "max_detectable_altitude_km"]
 
 
 @dataclass
@@ -66,6 +65,9 @@ class SeparationResult:
         Body name.
     noise_nT, k : float or None
         Noise level (nT) and its multiple that counts as detectable.
+
+    Drawn by :func:`induct.plot.separation.plot_separation`; written by
+    :func:`induct.io.tables.write_separation_csv`.
     """
 
     labels: list
@@ -212,12 +214,68 @@ def max_detectable_altitude_km(surface_difference_nT, threshold_nT: float, radiu
     return np.where(d >= threshold_nT, h, np.nan)
 
 
-def separation_columns(result: SeparationResult) -> list[Column]:
-    """Summary table: one row per pair and marked period.
+@dataclass
+class SeparationSummary:
+    """One row per pair and marked period: where the candidates differ most and how high it stays detectable.
 
-    Columns: pair, period (h), difference at the chosen altitude (nT), the
-    period of largest difference on the grid (h) and its value (nT), and with a
-    noise level the largest altitude (km) at which the pair stays above k x noise.
+    Attributes
+    ----------
+    pair : list of str
+        ``"a vs b"`` of each row, R rows = pairs x marked periods (pair-major order).
+    period_h : ndarray, shape (R,)
+        Marked period (h).
+    difference_nT : ndarray, shape (R,)
+        Difference field at ``altitude_km`` and the marked period (nT).
+    best_period_h : ndarray, shape (R,)
+        Period of the grid (h) with the pair's largest difference at ``altitude_km``.
+    best_difference_nT : ndarray, shape (R,)
+        That largest difference (nT).
+    max_altitude_km : ndarray, shape (R,)
+        Largest altitude (km) at which the difference stays at or above ``threshold_nT``
+        (:func:`max_detectable_altitude_km`); NaN below it everywhere or without a noise level.
+    altitude_km : float
+        Altitude (km) of the difference columns.
+    threshold_nT : float or None
+        k x noise (nT), or None without a noise level.
+    """
+
+    pair: list
+    period_h: np.ndarray
+    difference_nT: np.ndarray
+    best_period_h: np.ndarray
+    best_difference_nT: np.ndarray
+    max_altitude_km: np.ndarray
+    altitude_km: float
+    threshold_nT: float | None
+
+
+def separation_summary(result: SeparationResult) -> SeparationSummary:
+    """Summary of a separation: one row per pair and marked period.
+
+    For each pair and marked period: the difference at the chosen altitude
+    (nT), the period of largest difference on the grid (h) and its value (nT),
+    and with a noise level the largest altitude (km) at which the pair stays
+    above k x noise.
+
+    Parameters
+    ----------
+    result : SeparationResult
+
+    Returns
+    -------
+    SeparationSummary
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> model = load_scenario("ilmare").model
+    >>> thick = model.with_layer("ice shell", thickness_km=40.0)
+    >>> res = separation([model, thick], ["a", "b"], drive_nT=200.0, marked_periods_h=[12.12, 84.7], noise_nT=0.5)
+    >>> s = separation_summary(res)
+    >>> s.pair
+    ['a vs b', 'a vs b']
+    >>> bool(s.max_altitude_km[0] > 0)
+    True
     """
     rows = {"pair": [], "period": [], "diff": [], "best_p": [], "best_d": [], "hmax": []}
     scale = dipole_factor(result.radius_km, result.altitude_km)
@@ -235,74 +293,13 @@ def separation_columns(result: SeparationResult) -> list[Column]:
             rows["best_p"].append(result.periods_h[best])
             rows["best_d"].append(result.difference_nT[i, best])
             rows["hmax"].append(hmax[q])
-    alt = f"{result.altitude_km:g} km"
-    cols = [
-        Column("pair", "", rows["pair"], "s"),
-        Column("period", "h", rows["period"], ".4g"),
-        Column(f"difference at {alt}", "nT", rows["diff"], ".4g"),
-        Column("period of largest difference", "h", rows["best_p"], ".4g"),
-        Column(f"largest difference at {alt}", "nT", rows["best_d"], ".4g"),
-    ]
-    if result.threshold_nT is not None:
-        cols.append(Column(f"max altitude above {result.threshold_nT:g} nT", "km", rows["hmax"], ".4g"))
-    return cols
-
-
-def plot_separation(result: SeparationResult, path=None, *, formats=("png", "pdf")):
-    """Two panels: difference field versus period (log-log) and versus altitude.
-
-    Left: each pair's difference (solid, one colour per pair) and each
-    candidate's induced field (thin grey, for scale) at the chosen altitude
-    versus period; the marked periods are dotted verticals; the detectability
-    threshold k x noise is a dashed horizontal. Right: each pair's difference
-    versus altitude at the marked periods (line style per period). Okabe-Ito
-    colours; model-limits caption at the bottom.
-
-    Returns
-    -------
-    matplotlib.figure.Figure when ``path`` is None, else the list of written paths.
-    """
-    from induct.plot import style as plotting
-
-    fig, (ax1, ax2) = plotting.figure(1, 2, size=(11.0, 6.2))
-    colours = plotting.COLORS
-    styles = ["-", "--", ":", "-."]
-    for j, label in enumerate(result.labels):
-        ax1.plot(result.periods_h, result.induced_nT[j], color="0.6", lw=1.0, ls=styles[j % 4], label=f"induced field, {label}")
-    for i in range(len(result.pairs)):
-        ax1.plot(result.periods_h, result.difference_nT[i], color=colours[i % len(colours)], lw=2.2, label=f"difference {result.pair_label(i)}")
-    for p in result.marked_periods_h:
-        ax1.axvline(p, color="0.35", lw=0.8, ls=":")
-        ax1.annotate(f"{p:g} h", (p, 1.0), xycoords=("data", "axes fraction"), xytext=(2, -3), textcoords="offset points", rotation=90, va="top", fontsize=7.5, color="0.3")
-    t = result.threshold_nT
-    for ax in (ax1, ax2):
-        if t is not None:
-            ax.axhline(t, color="black", lw=1.2, ls="--", label=f"{result.k:g} x noise = {t:g} nT")
-        ax.set_yscale("log")
-        plotting.plain_log_ticks(ax.yaxis)
-        ax.set_ylabel("field over the pole (nT)")
-    ax1.set_xscale("log")
-    plotting.plain_log_ticks(ax1.xaxis)
-    ax1.set_xlabel("period (h)")
-    ax1.set_title(f"versus period, {result.altitude_km:g} km altitude", fontsize=10)
-    for i in range(len(result.pairs)):
-        for q, period in enumerate(result.marked_periods_h):
-            ax2.plot(
-                result.altitudes_km,
-                result.difference_vs_altitude_nT[i, q],
-                color=colours[i % len(colours)],
-                ls=styles[q % 4],
-                lw=1.8,
-                label=f"{result.pair_label(i)}, {period:g} h" if len(result.pairs) > 1 else f"{period:g} h",
-            )
-    ax2.set_xlabel("altitude over the pole (km)")
-    ax2.set_title("difference versus altitude at the marked periods", fontsize=10)
-    for ax in (ax1, ax2):
-        ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.15), ncol=2, frameon=False)
-    fig.suptitle(
-        f"{result.body}: where the candidate interiors separate (drive {result.drive_nT:g} nT, uniform field)", fontsize=11
+    return SeparationSummary(
+        pair=rows["pair"],
+        period_h=np.array(rows["period"], dtype=float),
+        difference_nT=np.array(rows["diff"], dtype=float),
+        best_period_h=np.array(rows["best_p"], dtype=float),
+        best_difference_nT=np.array(rows["best_d"], dtype=float),
+        max_altitude_km=np.array(rows["hmax"], dtype=float),
+        altitude_km=result.altitude_km,
+        threshold_nT=result.threshold_nT,
     )
-    fig.tight_layout(rect=(0, 0.03, 1, 1))
-    if path is None:
-        return fig
-    return plotting.save_figure(fig, path, formats=formats)

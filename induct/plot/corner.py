@@ -12,7 +12,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from induct.plot.style import COLORS, LIMITS_CAPTION, SEQUENTIAL_CMAP, figure, save_figure
+from induct.constants import MODEL_LIMITS
+from induct.plot.style import COLORS, SEQUENTIAL_CMAP, figure, save_figure
 from induct.inversion.posterior import CORRELATION_THRESHOLD, PosteriorResult, histogram_interval
 
 __all__ = ["corner_figure", "save_corner"]
@@ -44,7 +45,7 @@ def corner_figure(result: PosteriorResult, title: str | None = None):
     params = result.parameters
     k = len(params)
     size = max(5.0, 2.5 * k)
-    fig, axes = figure(k, k, size=(size, size + 0.8), squeeze=False, caption=LIMITS_CAPTION)
+    fig, axes = figure(k, k, size=(size, size + 0.8), squeeze=False, caption=MODEL_LIMITS)
     fig.subplots_adjust(top=1 - 0.85 / (size + 0.8), bottom=0.75 / (size + 0.8), hspace=0.35, wspace=0.15)
     view = [_view(result, i) for i in range(k)]
     xs = [p.from_prior(e) for p, e in zip(params, result.edges)]

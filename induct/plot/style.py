@@ -5,17 +5,19 @@ with units, perceptually uniform colour-blind-safe colormaps (``cividis`` for
 sequential quantities, ``viridis`` for a second sequential map), a colour-blind
 safe qualitative cycle (Okabe & Ito 2008, "Color Universal Design"), and every
 figure saved as PNG and vector PDF.
+
+Figures are built with matplotlib's object interface
+(:class:`matplotlib.figure.Figure`), never through ``pyplot``: no module selects
+a backend or keeps global figure state, so importing or using :mod:`induct.plot`
+in a notebook leaves the notebook's backend and open figures alone. matplotlib
+itself is imported inside the functions that draw.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
 
-import matplotlib
-
-matplotlib.use("Agg")  # no display needed; figures are written to files
-
-import matplotlib.pyplot as plt  # noqa: E402
+from induct.constants import MODEL_LIMITS
 
 __all__ = [
     "SEQUENTIAL_CMAP",
@@ -25,14 +27,13 @@ __all__ = [
     "HIGHLIGHT",
     "figure",
     "save_figure",
-    "LIMITS_CAPTION",
     "filled_contours",
     "two_line_title",
     "covariance_ellipse",
     "wrap",
     "plain_log_ticks",
     "contour_colorbar",
-    "format_number",
+    "style_context",
 ]
 
 SEQUENTIAL_CMAP = "cividis"
@@ -42,9 +43,6 @@ DIVERGING_CMAP = "PuOr"
 COLORS = ["#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442", "#000000"]
 #: Overlay colour that stands out on the sequential colormaps (Okabe-Ito vermillion).
 HIGHLIGHT = "#D55E00"
-
-#: One-line statement of what the model leaves out, for figure footers.
-LIMITS_CAPTION = "Spherically symmetric induction only: no plasma interaction, asymmetric shells or motional induction."
 
 _RC = {
     "figure.dpi": 100,
@@ -57,17 +55,58 @@ _RC = {
     "ytick.labelsize": 9,
     "axes.grid": True,
     "grid.alpha": 0.3,
-    "axes.prop_cycle": matplotlib.cycler(color=COLORS),
     "image.cmap": SEQUENTIAL_CMAP,
     "savefig.bbox": "tight",
     "pdf.fonttype": 42,  # embed TrueType, editable text in vector output
 }
 
 
-def figure(nrows: int = 1, ncols: int = 1, *, size=(6.4, 4.8), caption: str | None = LIMITS_CAPTION, **kwargs):
-    """A new figure and axes in the house style; ``caption`` is written small at the bottom."""
-    with plt.rc_context(_RC):
-        fig, ax = plt.subplots(nrows, ncols, figsize=size, **kwargs)
+def style_context():
+    """A ``matplotlib.rc_context`` with the house style (font sizes, grid, colour cycle, output settings).
+
+    Examples
+    --------
+    >>> with style_context():
+    ...     pass
+    """
+    import matplotlib
+
+    return matplotlib.rc_context({**_RC, "axes.prop_cycle": matplotlib.cycler(color=COLORS)})
+
+
+def figure(nrows: int = 1, ncols: int = 1, *, size=(6.4, 4.8), caption: str | None = MODEL_LIMITS, **kwargs):
+    """A new figure and axes in the house style; ``caption`` is written small at the bottom.
+
+    The figure is a :class:`matplotlib.figure.Figure` made without ``pyplot``:
+    it belongs to no backend and needs no closing.
+
+    Parameters
+    ----------
+    nrows, ncols : int
+        Grid of axes.
+    size : (float, float)
+        Width and height (inches).
+    caption : str or None
+        Footer text; by default :data:`induct.constants.MODEL_LIMITS`.
+    **kwargs
+        Passed to :meth:`matplotlib.figure.Figure.subplots` (``sharex``, ``squeeze``, ...).
+
+    Returns
+    -------
+    fig : matplotlib.figure.Figure
+    ax : Axes or ndarray of Axes
+
+    Examples
+    --------
+    >>> fig, ax = figure(caption=None)
+    >>> fig.texts
+    []
+    """
+    from matplotlib.figure import Figure
+
+    with style_context():
+        fig = Figure(figsize=size)
+        ax = fig.subplots(nrows, ncols, **kwargs)
     if caption:
         fig.text(0.01, 0.005, caption, fontsize=7, color="0.35", ha="left", va="bottom")
     return fig, ax
@@ -76,18 +115,26 @@ def figure(nrows: int = 1, ncols: int = 1, *, size=(6.4, 4.8), caption: str | No
 def save_figure(fig, path, *, formats=("png", "pdf")) -> list[Path]:
     """Save ``fig`` as ``path`` with each suffix in ``formats`` (PNG and vector PDF by default).
 
-    ``path`` may carry a suffix (it is replaced) or not. Returns the paths written.
+    ``path`` may carry a suffix (it is replaced) or not; missing folders are
+    created. Each file is written to a temporary name and moved into place.
+
+    Returns
+    -------
+    list of Path
+        The paths written.
     """
+    from induct.io.files import atomic_path
+
     path = Path(path)
     stem = path.with_suffix("") if path.suffix.lower() in {".png", ".pdf", ".svg"} else path
     written = []
-    with plt.rc_context(_RC):
+    with style_context():
         for fmt in formats:
             out = stem.with_suffix(f".{fmt}")
             out.parent.mkdir(parents=True, exist_ok=True)
-            fig.savefig(out)
+            with atomic_path(out) as tmp:
+                fig.savefig(tmp, format=fmt)
             written.append(out)
-    plt.close(fig)
     return written
 
 
@@ -250,11 +297,3 @@ def covariance_ellipse(ax, center, covariance, nsigma: float = 1.0, **kwargs):
     patch = Ellipse(tuple(center), width, height, angle=angle, **style)
     ax.add_patch(patch)
     return patch
-
-
-def format_number(value: float, digits: int = 3) -> str:
-    """Short plain form of a number: 3 significant digits, exponents without '+' or leading zeros (1e5, 2.5e-6)."""
-    import re
-
-    text = f"{value:.{digits}g}"
-    return re.sub(r"e([+-])0*(\d)", lambda m: "e" + ("-" if m.group(1) == "-" else "") + m.group(2), text)

@@ -74,7 +74,7 @@ def test_flyby_fields_compare_snr_and_plot(tmp_path, capsys):
     assert math.isclose(cmp["track_snr"], math.sqrt(np.sum(diff**2)) / 0.5, rel_tol=1e-12)
     assert abs(summary["closest_approach"]["altitude_km"] - 100.0) < 1e-3
     assert fig.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-    assert "plasma-interaction" in summary["limits"]
+    assert "plasma interaction" in summary["limits"] and "steady field not included" in summary["limits"]
     # Text summary.
     code, stdout, err = run(capsys, ["flyby", "ilmare", "--trajectory", "ilmare_flyby", "--out", str(out)])
     assert code == 0 and "peak induced field" in stdout and "closest approach 100 km" in stdout

@@ -30,9 +30,9 @@ from induct.planning.candidates import (
     parse_value_range,
     straight_track,
 )
+from induct.bench.plan import benchmark_plan
 from induct.io.candidates import read_candidates, write_candidates
 from induct.planning.design import (
-    benchmark_plan,
     candidate_grams,
     exhaustive_selection,
     fisher_matrices,

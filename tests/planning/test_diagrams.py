@@ -1,4 +1,4 @@
-"""Amplitude-phase diagrams (induct.planning.diagrams), separation curves (induct.planning.separation), plotting helpers, gallery."""
+"""Amplitude-phase diagrams (induct.planning.diagrams), separation curves (induct.planning.separation), their figures and files, plotting helpers."""
 
 import math
 import warnings
@@ -8,11 +8,15 @@ import pytest
 
 import induct
 from induct import InteriorModel, Layer, load_scenario
-from induct.constants import SECONDS_PER_HOUR
-from induct.planning.diagrams import amplitude_phase_diagram, default_families, measurement_ellipses, plot_diagram, write_diagram_csv
+from induct.cli.commands.separate import separation_columns
+from induct.constants import MODEL_LIMITS, SECONDS_PER_HOUR
 from induct.io.measurements import parse_measurements
-from induct.plot.style import LIMITS_CAPTION, covariance_ellipse, figure
-from induct.planning.separation import max_detectable_altitude_km, plot_separation, separation, separation_columns
+from induct.io.tables import write_diagram_csv
+from induct.planning.diagrams import amplitude_phase_diagram, default_families, measurement_ellipses
+from induct.planning.separation import max_detectable_altitude_km, separation, separation_summary
+from induct.plot.diagrams import plot_diagram
+from induct.plot.separation import plot_separation
+from induct.plot.style import covariance_ellipse, figure
 
 
 @pytest.fixture(scope="module")
@@ -116,9 +120,6 @@ def test_covariance_ellipse_boundary_is_at_n_sigma():
         d = pts - np.array([3.0, -1.0])
         m = np.einsum("ij,jk,ik->i", d, np.linalg.inv(cov), d)
         assert np.max(np.abs(m - nsig**2)) <= 1e-9 * nsig**2, f"n = {nsig}: Mahalanobis^2 from {m.min()} to {m.max()}"
-    import matplotlib.pyplot as plt
-
-    plt.close(fig)
 
 
 def test_diagram_figure_and_csv(diagram, tmp_path):
@@ -130,10 +131,7 @@ def test_diagram_figure_and_csv(diagram, tmp_path):
     for p in paths:
         assert p.stat().st_size > 10_000, f"{p} is only {p.stat().st_size} bytes"
     fig = plot_diagram(diagram)
-    assert LIMITS_CAPTION in [t.get_text() for t in fig.texts]
-    import matplotlib.pyplot as plt
-
-    plt.close(fig)
+    assert MODEL_LIMITS in [t.get_text() for t in fig.texts]
     write_diagram_csv(diagram, tmp_path / "d.csv")
     lines = (tmp_path / "d.csv").read_text().splitlines()
     assert lines[0] == "period_h,family,ice shell.thickness_km,ocean.conductivity_S_per_m,amplitude,phase_lag_deg"
@@ -175,6 +173,12 @@ def test_separation_against_direct_responses(candidates):
     back = res.surface_difference_nT[:, 0] * (1540.0 / (1540.0 + hmax)) ** 3
     np.testing.assert_allclose(back, 1.5, rtol=1e-12)
     assert np.isnan(max_detectable_altitude_km([1.0], 1.5, 1540.0)[0])
+    summary = separation_summary(res)
+    assert summary.pair == ["a vs b", "a vs c", "b vs c"]
+    np.testing.assert_allclose(summary.max_altitude_km, hmax, rtol=1e-15)
+    np.testing.assert_allclose(summary.difference_nT, res.difference_nT[:, 2], rtol=1e-13)
+    best = np.argmax(res.difference_nT, axis=1)
+    assert np.array_equal(summary.best_period_h, periods[best])
     cols = separation_columns(res)
     assert [c.header for c in cols][-1].startswith("max altitude above 1.5 nT")
     assert len(cols[0].values) == 3
@@ -194,15 +198,5 @@ def test_separation_errors_and_figure(candidates, tmp_path):
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         paths = plot_separation(res, tmp_path / "s")
-    for p in paths:
-        assert p.stat().st_size > 10_000, f"{p} is only {p.stat().st_size} bytes"
-
-
-def test_gallery_fast(tmp_path):
-    from induct.plot.gallery import make_gallery
-
-    paths = make_gallery(tmp_path / "g", fast=True)
-    names = sorted(p.name for p in paths)
-    assert names == sorted(f"{n}.{e}" for n in ("map_amplitude", "map_difference", "diagram", "separation") for e in ("png", "pdf"))
     for p in paths:
         assert p.stat().st_size > 10_000, f"{p} is only {p.stat().st_size} bytes"

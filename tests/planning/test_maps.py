@@ -1,4 +1,4 @@
-"""Feasibility maps (induct.planning.maps, induct.io.map_files): cells, dipole field, regions, files, axis specs."""
+"""Feasibility maps (induct.planning.maps, induct.io.map_files, induct.plot.maps): cells, dipole field, regions, files, axis specs."""
 
 import csv
 import math
@@ -10,10 +10,10 @@ import pytest
 
 import induct
 from induct import InteriorModel, Layer, load_scenario
-from induct.constants import MU0, SECONDS_PER_HOUR
+from induct.constants import MODEL_LIMITS, MU0, SECONDS_PER_HOUR
+from induct.io.map_files import write_map_csv, write_map_files, write_map_netcdf
 from induct.planning.maps import AxisSpec, consistency_levels, feasibility_map, parse_axis_spec
 from induct.io.measurements import parse_measurements
-from induct.plot.style import LIMITS_CAPTION
 
 X_SPEC = "ice shell.thickness_km=2:90:37"
 Y_SPEC = "ocean.conductivity_S_per_m=0.05:30:23:log"
@@ -257,8 +257,8 @@ def test_netcdf_and_csv_round_trip(ilmare, tmp_path):
         ilmare, X_SPEC, Y_SPEC, 12.12, "induced_nT", drive_nT=150.0, altitude_km=80.0, measurements=data, noise_nT=0.4
     )
     nc, cs = tmp_path / "m.nc", tmp_path / "m.csv"
-    res.write_netcdf(nc)
-    res.write_csv(cs)
+    write_map_netcdf(res, nc)
+    write_map_csv(res, cs)
     with xr.open_dataset(nc, engine="h5netcdf") as ds:
         x = ds["ice_shell_thickness_km"]
         y = ds["ocean_conductivity_S_per_m"]
@@ -273,7 +273,7 @@ def test_netcdf_and_csv_round_trip(ilmare, tmp_path):
         assert ds.attrs["Conventions"].startswith("CF-") and ds.attrs["period_h"] == 12.12
         assert ds.attrs["altitude_km"] == 80.0 and ds.attrs["drive_nT"] == 150.0
         assert ds.attrs["detection_threshold_nT"] == pytest.approx(1.2, rel=1e-15)
-        assert ds.attrs["comment"] == LIMITS_CAPTION
+        assert ds.attrs["comment"] == MODEL_LIMITS
     with open(cs, newline="") as fh:
         rows = list(csv.DictReader(fh))
     assert list(rows[0]) == ["ice shell.thickness_km", "ocean.conductivity_S_per_m", "induced_nT", "chi_square"]
@@ -290,7 +290,10 @@ def test_missing_netcdf_packages_give_an_install_hint(ilmare, tmp_path, monkeypa
     res = feasibility_map(ilmare, "ice shell.thickness_km=5:60:3", "ocean.conductivity_S_per_m=1:3:2", 12.12)
     monkeypatch.setitem(sys.modules, "h5netcdf", None)
     with pytest.raises(ImportError, match=r"pip install 'induct\[netcdf\]'"):
-        res.write_netcdf(tmp_path / "x.nc")
+        write_map_netcdf(res, tmp_path / "x.nc")
+    # without NetCDF, write_map_files writes the CSV alone and leaves no temporary file behind
+    assert write_map_files(res, tmp_path / "y", netcdf=False) == [tmp_path / "y.csv"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["y.csv"]
 
 
 def test_map_figures_png_and_pdf(ilmare, tmp_path):
@@ -300,13 +303,10 @@ def test_map_figures_png_and_pdf(ilmare, tmp_path):
         ilmare, "ice shell.thickness_km=2:90:40", Y_SPEC, 12.12, "difference_nT",
         drive_nT=200.0, altitude_km=100.0, reference=ref, measurements=data, noise_nT=0.5,
     )
-    from induct.io.map_files import plot_map
+    from induct.plot.maps import plot_map
 
     fig = plot_map(res)
-    assert LIMITS_CAPTION in [t.get_text() for t in fig.texts]
-    import matplotlib.pyplot as plt
-
-    plt.close(fig)
+    assert MODEL_LIMITS in [t.get_text() for t in fig.texts]
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         paths = plot_map(res, tmp_path / "fig")

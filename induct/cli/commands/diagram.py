@@ -6,11 +6,13 @@ from pathlib import Path
 
 import numpy as np
 
-from induct.planning.diagrams import amplitude_phase_diagram, default_families, plot_diagram, write_diagram_csv
-from induct.planning.maps import parse_axis_spec
+from induct.constants import MODEL_LIMITS
 from induct.io.measurements import load_measurements
-from induct.plot.style import LIMITS_CAPTION
 from induct.io.scenario import load_scenario
+from induct.io.tables import write_diagram_csv
+from induct.planning.diagrams import amplitude_phase_diagram, default_families, measured_periods_h
+from induct.planning.maps import parse_axis_spec
+from induct.plot.diagrams import plot_diagram
 
 
 def register(subparsers):
@@ -23,7 +25,7 @@ def register(subparsers):
             "ocean's conductivity), the scenario's own model, and measured responses with 1 and 2 sigma error "
             "ellipses. Writes PREFIX.png, PREFIX.pdf and PREFIX.csv (every curve point)."
         ),
-        epilog=LIMITS_CAPTION,
+        epilog=MODEL_LIMITS,
     )
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
     p.add_argument(
@@ -67,7 +69,7 @@ def run(args) -> int:
     if args.period_h:
         periods = np.asarray(args.period_h, dtype=float)
     elif measurements is not None:
-        periods = np.unique(measurements.period_h[measurements.degree == args.degree])
+        periods = measured_periods_h(measurements, args.degree)
     else:
         periods = scenario.periods_h
     if periods is None or len(periods) == 0:
@@ -77,14 +79,17 @@ def run(args) -> int:
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
     written = plot_diagram(result, prefix, measurements=measurements)
-    csv_path = prefix.with_name(prefix.name + ".csv")
-    write_diagram_csv(result, csv_path)
-    written.append(csv_path)
-    print(f"{scenario.name}: amplitude-phase diagram at {', '.join(f'{p:g}' for p in result.periods_h)} h")
-    print(f"  curves of constant {first} and of constant {second}")
-    for p, r in zip(result.periods_h, result.model_response):
-        print(f"  model at {p:g} h: A = {abs(r):.4f}, phase lag = {np.degrees(np.angle(r)):.2f} deg")
-    for path in written:
-        print(f"wrote {path}")
-    print(LIMITS_CAPTION)
+    written.append(write_diagram_csv(result, prefix.with_name(prefix.name + ".csv")))
+    print(format_diagram_summary(scenario.name, result, written))
     return 0
+
+
+def format_diagram_summary(name: str, result, written=()) -> str:
+    """The text ``induct diagram`` prints: periods, families, the model's response, the files and the limits."""
+    lines = [f"{name}: amplitude-phase diagram at {', '.join(f'{p:g}' for p in result.periods_h)} h"]
+    lines.append(f"  curves of constant {result.first} and of constant {result.second}")
+    for p, r in zip(result.periods_h, result.model_response):
+        lines.append(f"  model at {p:g} h: A = {abs(r):.4f}, phase lag = {np.degrees(np.angle(r)):.2f} deg")
+    lines.extend(f"wrote {path}" for path in written)
+    lines.append(MODEL_LIMITS)
+    return "\n".join(lines)

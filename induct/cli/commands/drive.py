@@ -14,33 +14,20 @@ with t in seconds from the epoch of the planet file or series.
 from __future__ import annotations
 
 import argparse
-import csv
 import json
-import math
 import sys
-from pathlib import Path
-
-import numpy as np
 
 from induct import __version__
 from induct.constants import SECONDS_PER_HOUR
-from induct.field.drive import DriveLine, planet_drive_spectrum
+from induct.field.analysis import INTERNAL_FIELD_ONLY, planet_drive_analysis, series_drive_analysis
+from induct.field.drive import DriveLine
 from induct.io.drive_files import read_planet_file, write_drive_lines
-from induct.field.orbit import primary_field_series, synodic_period_s
-from induct.field.spectrum import fit_harmonics, label_period
-
-CAVEAT = (
-    "Internal field of the planet only: magnetodisc (current sheet), magnetopause and solar-rotation "
-    "lines are not included."
-)
-SERIES_HEADER = ["t_s", "bx_nT", "by_nT", "bz_nT"]
-
 
 def register(subparsers) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "drive",
         help="driving-field lines at a moon (planet file or primary-field time series)",
-        description=__doc__.split("\n\n")[0] + " " + CAVEAT,
+        description=__doc__.split("\n\n")[0] + " " + INTERNAL_FIELD_ONLY,
     )
     p.add_argument("planet_file", nargs="?", metavar="PLANET.toml", help="planet file (TOML, see induct.field.drive)")
     p.add_argument("--moon", help="moon name (needed when the planet file has several moons)")
@@ -63,71 +50,38 @@ def register(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def _read_series(path: str) -> tuple[np.ndarray, np.ndarray]:
-    rows = []
-    with open(path, newline="", encoding="utf-8") as handle:
-        reader = csv.reader(row for row in handle if row.strip() and not row.lstrip().startswith("#"))
-        header = next(reader, None)
-        if header is None or [h.strip() for h in header] != SERIES_HEADER:
-            raise ValueError(f"{path}: the first line must be the header {','.join(SERIES_HEADER)}, got {header}")
-        for number, row in enumerate(reader, start=2):
-            if len(row) != 4:
-                raise ValueError(f"{path}: data row {number} must have 4 values, got {len(row)}")
-            try:
-                rows.append([float(v) for v in row])
-            except ValueError:
-                raise ValueError(f"{path}: data row {number} is not numeric: {row}") from None
-    data = np.array(rows, dtype=float).reshape(-1, 4)
-    if not np.all(np.isfinite(data)):
-        raise ValueError(f"{path}: values must be finite")
-    if data.shape[0] < 2 or np.any(np.diff(data[:, 0]) <= 0.0):
-        raise ValueError(f"{path}: t_s must be strictly increasing with at least 2 rows")
-    return data[:, 0], data[:, 1:]
+def analyse(args):
+    """The :class:`~induct.field.analysis.DriveAnalysis` the options ask for (planet file or fitted series)."""
+    from induct.io.tracks import read_field_series
 
-
-def _analyse(args):
-    """Return (spectrum, t_s, b_nT, description dict)."""
     if (args.planet_file is None) == (args.series is None):
         raise ValueError("give either a planet file or --series FILE.csv (not both)")
     if args.series is not None:
         if not args.periods_h:
             raise ValueError("--series needs --periods-h (the periods to fit, h)")
-        t, b = _read_series(args.series)
-        periods_s = np.array(args.periods_h, dtype=float) * SECONDS_PER_HOUR
-        labels = None
-        refs = {}
         if (args.rotation_period_h is None) != (args.orbital_period_h is None):
             raise ValueError("--rotation-period-h and --orbital-period-h go together")
-        if args.rotation_period_h is not None:
-            rot, orb = args.rotation_period_h * SECONDS_PER_HOUR, args.orbital_period_h * SECONDS_PER_HOUR
-            syn = synodic_period_s(rot, orb, args.retrograde)
-            refs = {"rotation": rot, "orbital": orb, "synodic": syn}
-            labels = []
-            for p in periods_s:
-                if not (math.isfinite(p) and p > 0.0):
-                    raise ValueError(f"--periods-h must be finite and > 0, got {p / SECONDS_PER_HOUR!r}")
-                labels.append(label_period(p, syn, orb, args.max_harmonic, args.max_orbital)
-                              or f"{p / SECONDS_PER_HOUR:.6g} h")
-        spec = fit_harmonics(t, b, periods_s, labels)
-        if refs:
-            spec.reference_periods_s.update(refs)
-        return spec, t, b, {"source": str(args.series), "planet": None, "moon": None}
-    system = read_planet_file(args.planet_file)
-    moon, orbit = system.orbit(args.moon)
-    spec = planet_drive_spectrum(
-        system, moon, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
+        bad = [p for p in args.periods_h if not (p > 0.0 and p < float("inf"))]
+        if bad and args.rotation_period_h is not None:
+            raise ValueError(f"--periods-h must be finite and > 0, got {bad[0]!r}")
+        t, b = read_field_series(args.series)
+        return series_drive_analysis(
+            t, b, args.periods_h, rotation_period_h=args.rotation_period_h, orbital_period_h=args.orbital_period_h,
+            retrograde=args.retrograde, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
+            source=str(args.series),
+        )
+    return planet_drive_analysis(
+        read_planet_file(args.planet_file), args.moon, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
         min_amplitude_nT=args.min_amplitude_nT, samples=args.samples,
     )
-    t = np.linspace(0.0, 2.0 * orbit.period_s, 2000)
-    b = primary_field_series(system.planet, orbit, t)
-    return spec, t, b, {"source": str(args.planet_file), "planet": system.planet.name, "moon": moon,
-                        "sense": "retrograde" if orbit.retrograde else "prograde"}
 
 
-def _result_dict(spec, info) -> dict:
+def result_dict(analysis) -> dict:
+    """The JSON form of a :class:`~induct.field.analysis.DriveAnalysis` (``--json``)."""
+    spec = analysis.spectrum
     return {
         "induct_version": __version__,
-        **info,
+        **analysis.info,
         "frame": "flow frame: x along the corotation flow, y toward the planet's spin axis, z along the spin axis",
         "convention": "B(t) = mean + sum_k amplitude_k cos(2 pi t / period_k + phase_k), t in s from the epoch",
         "method": spec.method,
@@ -147,100 +101,62 @@ def _result_dict(spec, info) -> dict:
             }
             for line in spec.lines
         ],
-        "caveat": CAVEAT,
+        "caveat": INTERNAL_FIELD_ONLY,
     }
 
 
-def _print_table(spec, info) -> None:
+def format_drive_table(analysis) -> str:
+    """The table ``induct drive`` prints: reference periods, mean field, one row per line, explained variance."""
+    spec, info = analysis.spectrum, analysis.info
     where = f"{info['planet']} at {info['moon']}" if info["planet"] else info["source"]
-    print(f"Primary-field lines: {where} ({spec.method})")
-    print("Frame: x = corotation flow, y = toward the spin axis, z = spin axis; B = amplitude cos(2 pi t/period + phase)")
+    out = [f"Primary-field lines: {where} ({spec.method})"]
+    out.append("Frame: x = corotation flow, y = toward the spin axis, z = spin axis; B = amplitude cos(2 pi t/period + phase)")
     refs = spec.reference_periods_s
     if refs:
         sense = f" ({info['sense']})" if info.get("sense") else ""
-        print(f"Periods: rotation {refs['rotation'] / 3600:.6g} h, orbit {refs['orbital'] / 3600:.6g} h{sense}, "
-              f"synodic {refs['synodic'] / 3600:.6g} h")
-    print("Mean field (nT): " + ", ".join(f"B{c} = {v:.4g}" for c, v in zip("xyz", spec.mean_nT)))
+        out.append(f"Periods: rotation {refs['rotation'] / 3600:.6g} h, orbit {refs['orbital'] / 3600:.6g} h{sense}, "
+                   f"synodic {refs['synodic'] / 3600:.6g} h")
+    out.append("Mean field (nT): " + ", ".join(f"B{c} = {v:.4g}" for c, v in zip("xyz", spec.mean_nT)))
     head = (f"{'line':<16} {'period_h':>10} {'|Bx|_nT':>10} {'|By|_nT':>10} {'|Bz|_nT':>10} "
             f"{'phx_deg':>8} {'phy_deg':>8} {'phz_deg':>8} {'var_frac':>9}")
-    print(head)
-    print("-" * len(head))
+    out.append(head)
+    out.append("-" * len(head))
     for line in spec.lines:
         a, ph = line.amplitude_nT, line.phase_deg
-        print(f"{line.label:<16} {line.period_h:>10.5f} {a[0]:>10.4f} {a[1]:>10.4f} {a[2]:>10.4f} "
-              f"{ph[0]:>8.2f} {ph[1]:>8.2f} {ph[2]:>8.2f} {line.variance_fraction:>9.3e}")
-    print(f"The lines explain {100.0 * spec.fraction_explained:.6g} % of the variance "
-          f"(total variance {spec.total_variance_nT2:.6g} nT^2).")
+        out.append(f"{line.label:<16} {line.period_h:>10.5f} {a[0]:>10.4f} {a[1]:>10.4f} {a[2]:>10.4f} "
+                   f"{ph[0]:>8.2f} {ph[1]:>8.2f} {ph[2]:>8.2f} {line.variance_fraction:>9.3e}")
+    out.append(f"The lines explain {100.0 * spec.fraction_explained:.6g} % of the variance "
+               f"(total variance {spec.total_variance_nT2:.6g} nT^2).")
     if info["planet"]:
-        print(CAVEAT)
-
-
-def _plot(path, spec, t, b, info) -> None:
-    from matplotlib import ticker
-
-    from induct.plot.style import COLORS, figure, plain_log_ticks, save_figure
-
-    caption = CAVEAT if info["planet"] else "Lines fitted by least squares to the given series."
-    fig, (ax_t, ax_s) = figure(2, 1, size=(8.0, 7.0), caption=caption)
-    for c in range(3):
-        ax_t.plot(t / SECONDS_PER_HOUR, b[:, c], color=COLORS[c], lw=1.0, label=f"B{'xyz'[c]}")
-    ax_t.set_xlabel("time from epoch (h)")
-    ax_t.set_ylabel("primary field (nT)")
-    title = f"{info['planet']} at {info['moon']}" if info["planet"] else Path(info["source"]).name
-    ax_t.set_title(f"Primary field in the flow frame: {title}")
-    ax_t.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
-    shown = sorted((ln for ln in spec.lines if float(np.max(ln.amplitude_nT)) > 0.0), key=lambda ln: ln.period_s)
-    top = max((float(np.max(ln.amplitude_nT)) for ln in shown), default=1.0)
-    bottom = max(0.3 * min((float(np.min(ln.amplitude_nT[ln.amplitude_nT > 0])) for ln in shown), default=1.0),
-                 1e-5 * top)
-    for i, line in enumerate(shown):
-        for c in range(3):
-            x = line.period_h * (1.0 + 0.015 * (c - 1))
-            if line.amplitude_nT[c] > 0.0:
-                ax_s.plot([x, x], [bottom, line.amplitude_nT[c]], color=COLORS[c], lw=1.5)
-                ax_s.plot(x, line.amplitude_nT[c], "o", color=COLORS[c], ms=4)
-        ax_s.annotate(line.label, (line.period_h, float(np.max(line.amplitude_nT))), textcoords="offset points",
-                      xytext=(0, 6 + 10 * (i % 2)), ha="center", fontsize=7)
-    for c in range(3):
-        ax_s.plot([], [], "o-", color=COLORS[c], lw=1.5, ms=4, label=f"|B{'xyz'[c]}|")
-    ax_s.set_xscale("log")
-    ax_s.set_yscale("log")
-    ax_s.xaxis.set_major_locator(ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
-    plain_log_ticks(ax_s.xaxis)
-    ax_s.set_xlabel("period (h)")
-    ax_s.set_ylabel("line amplitude (nT)")
-    ax_s.set_title("Line spectrum (flow-frame components)")
-    ax_s.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
-    if shown:
-        ax_s.set_ylim(bottom, 8.0 * top)
-        periods = [ln.period_h for ln in shown]
-        ax_s.set_xlim(0.7 * min(periods), 1.4 * max(periods))
-    fig.tight_layout(rect=(0, 0.03, 1, 1))
-    save_figure(fig, path)  # PNG and vector PDF
+        out.append(INTERNAL_FIELD_ONLY)
+    return "\n".join(out)
 
 
 def run(args) -> int:
+    from induct.io.files import write_text
+    from induct.plot.drive import plot_drive
+
     if args.append and not args.write_scenario:
         raise ValueError("--append needs --write-scenario")
-    spec, t, b, info = _analyse(args)
-    result = _result_dict(spec, info)
+    analysis = analyse(args)
+    result = result_dict(analysis)
     if args.json == "-":
         json.dump(result, sys.stdout, indent=2)
         print()
     else:
-        _print_table(spec, info)
+        print(format_drive_table(analysis))
         if args.json:
-            Path(args.json).write_text(json.dumps(result, indent=2) + "\n", encoding="utf-8")
+            write_text(args.json, json.dumps(result, indent=2) + "\n")
             print(f"JSON written to {args.json}")
     if args.plot:
-        _plot(args.plot, spec, t, b, info)
+        plot_drive(analysis, args.plot)  # PNG and vector PDF
         if args.json != "-":
             print(f"Figure written to {args.plot}")
     if args.write_scenario:
-        lines = [DriveLine.from_spectral_line(line) for line in spec.lines]
-        comment = f"written by induct {__version__} drive from {info['source']}"
-        if info["moon"]:
-            comment += f" (moon {info['moon']})"
+        lines = [DriveLine.from_spectral_line(line) for line in analysis.spectrum.lines]
+        comment = f"written by induct {__version__} drive from {analysis.source}"
+        if analysis.moon:
+            comment += f" (moon {analysis.moon})"
         write_drive_lines(args.write_scenario, lines, append=args.append, comment=comment)
         if args.json != "-":
             print(f"{len(lines)} driving lines written to {args.write_scenario}")

@@ -18,9 +18,7 @@ import argparse
 import json
 import math
 import sys
-from pathlib import Path
 
-import numpy as np
 
 from induct import __version__
 
@@ -53,32 +51,16 @@ def register(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def _read(args, model):
-    from induct.io.tracks import RESIDUAL_COLUMNS, check_outside, read_track
-
-    pos, t, b, sources, frames = [], [], [], [], []
-    for name in args.data:
-        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=args.frame)
-        check_outside(track, model.radius_km, f"the body (radius {model.radius_km:g} km)")
-        if model.ionosphere is not None:
-            check_outside(track, model.radius_km + model.ionosphere.altitude_km,
-                          f"the ionosphere sheet (altitude {model.ionosphere.altitude_km:g} km)")
-        pos.append(track.positions_km)
-        t.append(track.times_s)
-        b.append(track.vectors_to_flow(RESIDUAL_COLUMNS[4:]))
-        sources.append(track.source)
-        frames.append(track.frame)
-    return np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames
-
-
 def _g(value) -> str:
     return "n/a" if value is None else f"{value:.2g}"
 
 
 def run(args) -> int:
     from induct.flyby.magfit import fit_responses
+    from induct.io.files import write_text
     from induct.io.measurements import load_measurements
     from induct.io.scenario import load_scenario
+    from induct.io.tracks import read_residual_tracks
 
     if not (math.isfinite(args.noise_nt) and args.noise_nt > 0):
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
@@ -91,7 +73,7 @@ def run(args) -> int:
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
-    pos, t, b, sources, frames = _read(args, scenario.model)
+    pos, t, b, sources, frames = read_residual_tracks(args.data, scenario.model, args.frame)
     fit = fit_responses(lines, scenario.model.radius_km, pos, t, b, args.noise_nt, max_condition=args.max_condition,
                         max_sigma=args.max_sigma, max_correlation=args.max_correlation)
     result = fit.to_dict()
@@ -115,7 +97,7 @@ def run(args) -> int:
                     if math.isfinite(fit.condition_number) else "inf", "chi2": float(fit.chi2), "n_data": fit.n_data},
             include_undetermined=args.include_undetermined,
         )
-        Path(args.toml).write_text(text, encoding="utf-8")
+        write_text(args.toml, text)
         back = load_measurements(args.toml)  # what invert will read
         result["toml"] = {"file": args.toml, "entries": back.n_entries}
     if args.json:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 
-from induct.inversion.posterior import NOT_MODELLED
+from induct.constants import MODEL_LIMITS
 from induct.cli.tables import Column, format_table
 from induct.inversion.grid import GRID_TASK_MODELS
 from induct.cli.commands._cluster import add_cluster_options, backend_for
@@ -162,5 +162,5 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
         lines.append(format_table(cols))
     lines.append(f"({len(shown)} listed, {two.count - len(shown):,d} not listed)")
     lines.append("")
-    lines.append(NOT_MODELLED)
+    lines.append(MODEL_LIMITS)
     return "\n".join(lines)

@@ -9,7 +9,7 @@ import numpy as np
 from induct.planning.maps import DEFAULT_TASK_SIZE, QUANTITIES, feasibility_map, parse_axis_spec
 from induct.cli.commands._cluster import add_cluster_options, backend_for
 from induct.io.measurements import load_measurements
-from induct.plot.style import LIMITS_CAPTION
+from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
 
 SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km or conductivity_S_per_m (e.g. 'ice shell.thickness_km=5:60:200')"
@@ -25,7 +25,7 @@ def register(subparsers):
             "(one row per cell). The nT quantities are the induced field (or its difference from a reference "
             "interior) over the pole of a uniform driving field."
         ),
-        epilog=LIMITS_CAPTION,
+        epilog=MODEL_LIMITS,
     )
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
     p.add_argument("--x", required=True, metavar="SPEC", help=f"horizontal axis: {SPEC_HELP}")
@@ -98,32 +98,32 @@ def _compute(args, scenario, period, reference, label, measurements, backend):
 
 
 def _write(args, scenario, result) -> int:
+    from induct.io.map_files import write_map_files
+    from induct.plot.maps import plot_map
+
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
-    from induct.io.map_files import plot_map
-
     written = plot_map(result, prefix)
-    csv_path = prefix.with_name(prefix.name + ".csv")
-    result.write_csv(csv_path)
-    written.append(csv_path)
-    if not args.no_netcdf:
-        nc_path = prefix.with_name(prefix.name + ".nc")
-        result.write_netcdf(nc_path)
-        written.append(nc_path)
-    print(f"{scenario.name}: {result.describe()}")
-    print(f"  x: {result.x}   y: {result.y}   ({result.values.size} cells)")
+    written += write_map_files(result, prefix, netcdf=not args.no_netcdf)
+    print(format_map_summary(scenario.name, result, written))
+    return 0
+
+
+def format_map_summary(name: str, result, written=()) -> str:
+    """The text ``induct map`` prints: the range of the quantity, the regions, the files and the model's limits."""
+    lines = [f"{name}: {result.describe()}"]
+    lines.append(f"  x: {result.x}   y: {result.y}   ({result.values.size} cells)")
     finite = result.values[np.isfinite(result.values)]
     if finite.size:
-        print(f"  {result.label}: {finite.min():.4g} to {finite.max():.4g}")
+        lines.append(f"  {result.label}: {finite.min():.4g} to {finite.max():.4g}")
     if result.chi_square is not None:
-        print(f"  best chi-square on the map: {np.nanmin(result.chi_square):.4g} for {result.n_data} measured values")
+        lines.append(f"  best chi-square on the map: {np.nanmin(result.chi_square):.4g} for {result.n_data} measured values")
         for nsig, level in result.chi_square_levels.items():
             share = np.mean(result.chi_square <= level)
-            print(f"  inside the {nsig} sigma {result.region} region: {100 * share:.1f} % of the cells")
+            lines.append(f"  inside the {nsig} sigma {result.region} region: {100 * share:.1f} % of the cells")
     if result.detection_threshold_nT is not None:
         share = np.mean(finite > result.detection_threshold_nT) if finite.size else 0.0
-        print(f"  above {result.detection_threshold_nT:g} nT (k x noise): {100 * share:.1f} % of the cells")
-    for path in written:
-        print(f"wrote {path}")
-    print(LIMITS_CAPTION)
-    return 0
+        lines.append(f"  above {result.detection_threshold_nT:g} nT (k x noise): {100 * share:.1f} % of the cells")
+    lines.extend(f"wrote {path}" for path in written)
+    lines.append(MODEL_LIMITS)
+    return "\n".join(lines)

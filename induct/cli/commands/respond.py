@@ -6,13 +6,14 @@ import json
 
 import numpy as np
 
+from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
-from induct.cli.tables import Column, format_table, table_csv
+from induct.cli.tables import Column, format_table
+from induct.io.files import write_text
+from induct.io.tables import table_csv
 
-LIMITS_NOTE = (
-    "Model: spherically symmetric quasi-static induction (mu = mu0), exp(+i w t) convention; "
-    "not included: plasma interaction, asymmetric shells, motional induction."
-)
+#: The model's limits and the conventions of the printed response.
+LIMITS_NOTE = f"{MODEL_LIMITS} Convention: exp(+i w t), mu = mu0 in every layer."
 
 
 def register(subparsers):
@@ -71,18 +72,24 @@ def run(args) -> int:
         if args.csv == "-":
             print(text, end="")
         else:
-            with open(args.csv, "w") as fh:
-                fh.write(text)
+            write_text(args.csv, text)
             print(f"wrote {args.csv}")
         return 0
-    model = scenario.model
-    print(f"{scenario.name}: radius {model.radius_km:g} km, degree n = {result.degree}")
-    print(describe_layers(model))
-    print()
-    print(format_table(cols))
-    print()
-    print(LIMITS_NOTE)
+    print(format_response(scenario, result))
     return 0
+
+
+def format_response(scenario, result) -> str:
+    """The text ``induct respond`` prints: the layers, the response table and the model's limits."""
+    model = scenario.model
+    return "\n".join([
+        f"{scenario.name}: radius {model.radius_km:g} km, degree n = {result.degree}",
+        describe_layers(model),
+        "",
+        format_table(response_columns(result)),
+        "",
+        LIMITS_NOTE,
+    ])
 
 
 def ocean_reports(model) -> list[dict]:

@@ -2,15 +2,16 @@
 
 from __future__ import annotations
 
-import csv
 from pathlib import Path
 
 import numpy as np
 
-from induct.plot.style import LIMITS_CAPTION
+from induct.constants import MODEL_LIMITS
+from induct.cli.tables import Column, format_table
 from induct.io.scenario import load_scenario
-from induct.planning.separation import plot_separation, separation, separation_columns
-from induct.cli.tables import format_table, table_csv
+from induct.io.tables import write_separation_csv, write_table_csv
+from induct.planning.separation import separation, separation_summary
+from induct.plot.separation import plot_separation
 
 
 def register(subparsers):
@@ -23,7 +24,7 @@ def register(subparsers):
             "period (log axis) and versus altitude. Writes PREFIX.png/.pdf, PREFIX_period.csv, "
             "PREFIX_altitude.csv and PREFIX_summary.csv, and prints the summary table."
         ),
-        epilog=LIMITS_CAPTION,
+        epilog=MODEL_LIMITS,
     )
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
     p.add_argument("--other", nargs="+", required=True, metavar="OTHER.toml", help="further candidate interiors (scenario files or bundled names)")
@@ -74,27 +75,38 @@ def run(args) -> int:
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
     written = plot_separation(result, prefix)
-    period_csv = prefix.with_name(prefix.name + "_period.csv")
-    with open(period_csv, "w", newline="") as fh:
-        w = csv.writer(fh, lineterminator="\n")
-        w.writerow(["period_h"] + [f"induced_nT {x}" for x in result.labels] + [f"difference_nT {result.pair_label(i)}" for i in range(len(result.pairs))])
-        for j, period in enumerate(result.periods_h):
-            w.writerow([repr(float(v)) for v in [period, *result.induced_nT[:, j], *result.difference_nT[:, j]]])
-    alt_csv = prefix.with_name(prefix.name + "_altitude.csv")
-    with open(alt_csv, "w", newline="") as fh:
-        w = csv.writer(fh, lineterminator="\n")
-        heads = [f"difference_nT {result.pair_label(i)} at {p:g} h" for i in range(len(result.pairs)) for p in result.marked_periods_h]
-        w.writerow(["altitude_km"] + heads)
-        flat = result.difference_vs_altitude_nT.reshape(-1, result.altitudes_km.size)
-        for j, alt in enumerate(result.altitudes_km):
-            w.writerow([repr(float(v)) for v in [alt, *flat[:, j]]])
+    written += write_separation_csv(result, prefix)
     cols = separation_columns(result)
-    summary_csv = prefix.with_name(prefix.name + "_summary.csv")
-    summary_csv.write_text(table_csv(cols))
-    written += [period_csv, alt_csv, summary_csv]
-    print(f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT over the pole")
-    print(format_table(cols))
-    for path in written:
-        print(f"wrote {path}")
-    print(LIMITS_CAPTION)
+    written.append(write_table_csv(prefix.with_name(prefix.name + "_summary.csv"), cols))
+    print(format_separation_summary(result, cols, written))
     return 0
+
+
+def separation_columns(result) -> list[Column]:
+    """Summary table of :func:`induct.planning.separation.separation_summary`, one row per pair and marked period.
+
+    Columns: pair, period (h), difference at the chosen altitude (nT), the
+    period of largest difference on the grid (h) and its value (nT), and with a
+    noise level the largest altitude (km) at which the pair stays above k x noise.
+    """
+    s = separation_summary(result)
+    alt = f"{s.altitude_km:g} km"
+    cols = [
+        Column("pair", "", s.pair, "s"),
+        Column("period", "h", list(s.period_h), ".4g"),
+        Column(f"difference at {alt}", "nT", list(s.difference_nT), ".4g"),
+        Column("period of largest difference", "h", list(s.best_period_h), ".4g"),
+        Column(f"largest difference at {alt}", "nT", list(s.best_difference_nT), ".4g"),
+    ]
+    if s.threshold_nT is not None:
+        cols.append(Column(f"max altitude above {s.threshold_nT:g} nT", "km", list(s.max_altitude_km), ".4g"))
+    return cols
+
+
+def format_separation_summary(result, cols, written=()) -> str:
+    """The text ``induct separate`` prints: candidates, the summary table, the files and the model's limits."""
+    lines = [f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT over the pole"]
+    lines.append(format_table(cols))
+    lines.extend(f"wrote {path}" for path in written)
+    lines.append(MODEL_LIMITS)
+    return "\n".join(lines)

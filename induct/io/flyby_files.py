@@ -1,0 +1,149 @@
+"""Writing a flyby prediction: the fields along the track and synthetic residuals (CSV with ``#`` comments).
+
+Both files use :func:`induct.io.tracks.write_csv` (12 significant digits,
+written atomically) in the frame of the trajectory file.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+import numpy as np
+
+from induct import __version__
+
+__all__ = ["flyby_field_columns", "write_flyby_fields", "write_synthetic_residuals"]
+
+
+def flyby_field_columns(prediction) -> dict:
+    """The columns of the field file, in output order, each shape (N,).
+
+    ``t_s``, ``x_km``, ``y_km``, ``z_km`` (track frame), ``altitude_km``, then
+    for ``ind`` (induced), ``pri`` (primary), ``tot`` (primary + induced) and,
+    with a comparison, ``diff``: ``bx_NAME_nT``, ``by_NAME_nT``, ``bz_NAME_nT``
+    and the magnitude ``b_NAME_nT``.
+
+    Parameters
+    ----------
+    prediction : induct.flyby.prediction.FlybyPrediction
+
+    Returns
+    -------
+    dict of str -> ndarray
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> from induct.flyby.prediction import predict_flyby
+    >>> from induct.io.tracks import read_track
+    >>> p = predict_flyby(load_scenario("ilmare"), read_track("ilmare_flyby"))
+    >>> list(flyby_field_columns(p))[:6]
+    ['t_s', 'x_km', 'y_km', 'z_km', 'altitude_km', 'bx_ind_nT']
+    """
+    from induct.io.tracks import from_flow_frame
+
+    track = prediction.track
+    frame = track.frame
+    cols = {"t_s": track.times_s}
+    pos = from_flow_frame(track.positions_km, frame)
+    for c in range(3):
+        cols[f"{'xyz'[c]}_km"] = pos[:, c]
+    cols["altitude_km"] = prediction.altitude_km
+    blocks = [("ind", prediction.induced_nT), ("pri", prediction.primary_nT),
+              ("tot", prediction.primary_nT + prediction.induced_nT)]
+    if prediction.comparison is not None:
+        blocks.append(("diff", prediction.comparison.difference_nT))
+    for name, vec in blocks:
+        v = from_flow_frame(vec, frame)
+        for c in range(3):
+            cols[f"b{'xyz'[c]}_{name}_nT"] = v[:, c]
+        cols[f"b_{name}_nT"] = np.linalg.norm(v, axis=1)
+    return cols
+
+
+def write_flyby_fields(path, prediction, *, compare_label: str | None = None) -> None:
+    """Write the fields along the track (:func:`flyby_field_columns`) with a comment header.
+
+    The comments name the scenario, trajectory, frame, units, what each block
+    is and the model's limits (:data:`induct.flyby.prediction.FLYBY_LIMITS`).
+
+    Parameters
+    ----------
+    path : str or Path
+    prediction : induct.flyby.prediction.FlybyPrediction
+    compare_label : str, optional
+        How the second interior is named in the header (default: its scenario name).
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> from induct.flyby.prediction import predict_flyby
+    >>> from induct.io.tracks import read_track
+    >>> p = predict_flyby(load_scenario("ilmare"), read_track("ilmare_flyby"))
+    >>> out = Path(tempfile.mkdtemp()) / "f.csv"
+    >>> write_flyby_fields(out, p)
+    >>> len(out.read_text().splitlines())  # 4 comment lines, the header, 3601 rows
+    3606
+    """
+    from induct.flyby.prediction import FLYBY_LIMITS
+    from induct.io.tracks import write_csv
+
+    track = prediction.track
+    comparison = prediction.comparison
+    if comparison is not None and compare_label is None:
+        compare_label = comparison.other
+    when = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    comments = [
+        f"induct {__version__} flyby, {when}: scenario {prediction.scenario_source}, trajectory {track.source}",
+        f"frame {track.frame}; {track.size} rows; t_s in s from the epoch of the driving lines; fields in nT",
+        "ind = induced field, pri = primary (driving) field"
+        + (" incl. its non-uniform part from the planet's gradient" if prediction.degree2 is not None else "") + ", tot = pri + ind"
+        + (f", diff = induced field minus that of {compare_label}" if comparison is not None else ""),
+        FLYBY_LIMITS,
+    ]
+    write_csv(path, flyby_field_columns(prediction), comments)
+
+
+def write_synthetic_residuals(path, prediction, residuals_nT, noise_nT: float, seed: int) -> None:
+    """Write synthetic residuals ``t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT`` (input for ``induct fit``).
+
+    Parameters
+    ----------
+    path : str or Path
+    prediction : induct.flyby.prediction.FlybyPrediction
+    residuals_nT : array_like, shape (N, 3)
+        From :func:`induct.flyby.prediction.synthetic_residuals` (frame of the track).
+    noise_nT : float
+        The noise added (nT), recorded in the header.
+    seed : int
+        The random seed, recorded in the header.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> from induct.flyby.prediction import predict_flyby, synthetic_residuals
+    >>> from induct.io.tracks import read_track
+    >>> p = predict_flyby(load_scenario("ilmare"), read_track("ilmare_flyby"))
+    >>> out = Path(tempfile.mkdtemp()) / "r.csv"
+    >>> write_synthetic_residuals(out, p, synthetic_residuals(p, 0.5, 1), 0.5, 1)
+    >>> out.read_text().splitlines()[1]
+    't_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT'
+    """
+    from induct.io.tracks import from_flow_frame, write_csv
+
+    track = prediction.track
+    pos = from_flow_frame(track.positions_km, track.frame)
+    res = {"t_s": track.times_s}
+    for c in range(3):
+        res[f"{'xyz'[c]}_km"] = pos[:, c]
+    noisy = np.asarray(residuals_nT, dtype=float)
+    for c in range(3):
+        res[f"b{'xyz'[c]}_nT"] = noisy[:, c]
+    write_csv(path, res, [
+        f"induct {__version__} flyby: SYNTHETIC residuals (induced field of {prediction.scenario} + Gaussian noise "
+        f"{noise_nT:g} nT, seed {seed}), frame {track.frame}",
+    ])
