@@ -1,4 +1,4 @@
-"""Candidate flybys for planning: reading them from a file, or generating straight or hyperbolic passes.
+"""Candidate flybys for planning: straight or hyperbolic passes generated from ranges (files: :mod:`induct.io.candidates`).
 
 A candidate is one flyby track: times (s from the epoch of the driving lines)
 and moon-centred positions (km) in the flow frame (x along the corotation
