@@ -248,8 +248,8 @@ def planet_drive_analysis(
     >>> a.spectrum.lines[0].label, a.moon, a.field_nT.shape
     ('synodic', 'Ilmare', (2000, 3))
     >>> s = a.sheet_lines[0]
-    >>> s.label, round(s.internal_nT, 1), round(s.total_nT, 1)
-    ('synodic', 102.0, 136.0)
+    >>> s.label, round(s.internal_nT), round(s.total_nT)
+    ('synodic', 102, 136)
     """
     from induct.field.drive import planet_drive_spectrum
     from induct.field.orbit import planet_fixed_position, primary_field_series
