@@ -82,14 +82,34 @@ CASES = (
 )
 
 
-def _least_squares(resid, starts, lo, hi):
+def _least_squares(model_vector, target, whiten, starts, lo, hi):
+    """Minimise |whiten (model_vector(u) - target)|^2 within [lo, hi] from each start; the best fit wins.
+
+    ``model_vector(U)`` maps (n, P) points to (n, D) model data (NaN rows for impossible models), so the
+    forward-difference Jacobian costs one vectorised call.
+    """
+    span = hi - lo
+    h = 1e-6 * span
+
+    def resid(u):
+        m = model_vector(u[None, :])[0]
+        if not np.all(np.isfinite(m)):
+            return np.full(target.size, 1e6)
+        return whiten @ (m - target)
+
+    def jac(u):
+        step = np.where(u + h <= hi, h, -h)
+        pts = np.vstack([u[None, :], u[None, :] + np.diag(step)])
+        m = model_vector(pts)
+        return (whiten @ ((m[1:] - m[0]) / step[:, None]).T)
+
     best = None
     for start in starts:
-        fit = least_squares(resid, np.clip(start, lo, hi), bounds=(lo, hi), x_scale=0.01 * (hi - lo),
-                            xtol=1e-10, ftol=1e-10)
+        fit = least_squares(resid, np.clip(start, lo, hi), jac=jac, bounds=(lo, hi), x_scale=0.01 * span,
+                            xtol=1e-8, ftol=1e-8)
         if best is None or fit.cost < best.cost:
             best = fit
-    return best.x
+    return best.x, 2.0 * best.cost
 
 
 def recover(model, params, lines, fit, grid_points: int):
@@ -98,18 +118,24 @@ def recover(model, params, lines, fit, grid_points: int):
     ``file``: grid inversion of the fit's measurement file (determined periods, no cross-period covariance),
     best cell refined by least squares on the same chi-square (None when no period is determined).
     ``full``: least squares on the fit's full (2K x 2K) response covariance, all periods, started from the
-    ``file`` estimate (or the prior centre) and from the prior centre; the lower chi-square wins.
+    ``file`` estimate; from the prior centre too when there is none or its chi-square is poor.
     """
     pmap = ParameterMap(model, params)
     lo = np.array([p.prior_bounds[0] for p in params])
     hi = np.array([p.prior_bounds[1] for p in params])
     centre = 0.5 * (lo + hi)
     periods_h = np.array([ln.period_s for ln in lines]) / 3600.0
-    bad = None
 
-    def responses(u, per_h, deg):
-        cols = [np.atleast_1d(p.from_prior(u[j])) for j, p in enumerate(params)]
-        return pmap.responses(cols, per_h, deg)[0]
+    def vector(per_h, deg, polar_form):
+        def f(u):
+            cols = [p.from_prior(u[:, j]) for j, p in enumerate(params)]
+            r = pmap.responses(cols, per_h, deg)
+            if polar_form is not None:
+                return polar_form.predicted(r).reshape(r.shape[0], -1)
+            x = np.empty((r.shape[0], 2 * r.shape[1]))
+            x[:, 0::2], x[:, 1::2] = r.real, r.imag
+            return x
+        return f
 
     u_file = None
     try:
@@ -119,30 +145,21 @@ def recover(model, params, lines, fit, grid_points: int):
     if meas is not None:
         res = invert(model, meas, params, grid_points=grid_points)
         w = np.linalg.inv(np.linalg.cholesky(meas.covariance))
-        bad = np.full(2 * meas.n_entries, 1e6)
-
-        def resid_file(u):
-            r = responses(u, meas.period_h, meas.degree)
-            if not np.all(np.isfinite(r)):
-                return bad
-            return np.einsum("mij,mj->mi", w, meas.predicted(r) - meas.values).ravel()
-
-        u_file = _least_squares(resid_file, [np.array([p.to_prior(res.best[p.name]) for p in params])], lo, hi)
+        whiten = np.zeros((2 * meas.n_entries, 2 * meas.n_entries))
+        for m in range(meas.n_entries):
+            whiten[2 * m:2 * m + 2, 2 * m:2 * m + 2] = w[m]
+        start = np.array([p.to_prior(res.best[p.name]) for p in params])
+        u_file, _ = _least_squares(vector(meas.period_h, meas.degree, meas), meas.values.ravel(), whiten,
+                                   [start], lo, hi)
     x_fit = np.array([v for p in fit.periods for v in (p.response.real, p.response.imag)])
-    w_full = np.linalg.inv(np.linalg.cholesky(fit.covariance))
-    bad_full = np.full(x_fit.size, 1e6)
-    deg = np.ones(periods_h.size, dtype=int)
-
-    def resid_full(u):
-        r = responses(u, periods_h, deg)
-        if not np.all(np.isfinite(r)):
-            return bad_full
-        x = np.empty(x_fit.size)
-        x[0::2], x[1::2] = r.real, r.imag
-        return w_full @ (x - x_fit)
-
-    starts = [centre] if u_file is None else [u_file, centre]
-    return u_file, _least_squares(resid_full, starts, lo, hi)
+    whiten = np.linalg.inv(np.linalg.cholesky(fit.covariance))
+    f_full = vector(periods_h, np.ones(periods_h.size, dtype=int), None)
+    if u_file is None:
+        return None, _least_squares(f_full, x_fit, whiten, [centre], lo, hi)[0]
+    u_full, chi2 = _least_squares(f_full, x_fit, whiten, [u_file], lo, hi)
+    if chi2 > x_fit.size + 5.0 * np.sqrt(2.0 * x_fit.size):
+        u_full = _least_squares(f_full, x_fit, whiten, [u_file, centre], lo, hi)[0]
+    return u_file, u_full
 
 
 def _stats(est, predicted, reference_u):
