@@ -30,6 +30,14 @@ _GENERATION = (
 
 _VALUES = "V, V1,V2,... or LO:HI:N"
 
+#: What the widths assume about the inversion that follows (measured by tools/verify_plan.py).
+INVERSION_NOTE = (
+    "The widths are those of an inversion that uses every driving period and the full response covariance of "
+    "the fit (cross-period terms included). The measurement file of `induct fit` keeps only the periods it "
+    "determines and drops cross-period covariances; inverting that file can give far wider ranges when the "
+    "flybys do not separate the periods (see the separability table)."
+)
+
 
 def register(subparsers):
     p = subparsers.add_parser(
@@ -329,5 +337,6 @@ def format_plan(plan, geometry, scenario, n_list: int, total_samples: int) -> st
     if plan.notes:
         lines.append("notes:")
         lines.extend(f"  - {n}" for n in plan.notes)
+    lines.append(INVERSION_NOTE)
     lines.append(MODEL_LIMITS)
     return "\n".join(lines)
