@@ -47,7 +47,7 @@ def register(subparsers):
             "Linearised experiment design: for each candidate flyby (from --candidates FILE, or generated from "
             "ranges of closest-approach values) the Fisher information of the magnetometer samples about the free "
             "parameters of the scenario's [invert] table, with a Gaussian approximation of the uniform prior: the "
-            "log det criterion (the expected information gain is half of it, in nats), the expected 68 %% widths, "
+            "log det criterion (the expected information gain is half of it, in nats), the expected 68 % widths, "
             "a greedy choice of --choose flybys and the driving periods they separate. Values of the generation "
             f"options: {_VALUES} (N evenly spaced values, ends included); one candidate per combination."
         ),
