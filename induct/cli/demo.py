@@ -14,6 +14,7 @@ call, with the same writers and figures -- for
 5. an amplitude-phase diagram with the measurements (``induct diagram``);
 6. the separation of the two interiors versus period and altitude (``induct separate``);
 7. the inversion of the synthetic measurements into ranges (``induct invert``);
+8. flyby planning: candidate passes ranked by expected information, the best set chosen (``induct plan``);
 
 and writes every figure (PNG and PDF), the data files and a Markdown report
 with the numbers into one folder. The report shows, for each step, the command
@@ -244,8 +245,28 @@ def _invert(prefix: Path, grid: int):
     return text, written
 
 
+def _plan(out: Path, argv: list):
+    """Planning step: the same candidates, noise and choice as ``argv`` (an ``induct plan`` command line)."""
+    from induct.cli.commands.plan import format_plan, plan_payload, write_plan_outputs
+    from induct.cli.main import build_parser
+    from induct.io.scenario import load_scenario
+    from induct.planning.candidates import closest_approach_summary, generate_candidates, parse_value_range
+    from induct.planning.design import plan_flybys
+
+    args = build_parser().parse_args([str(a) for a in argv])
+    sc = load_scenario("ilmare")
+    cands = generate_candidates(sc.model.radius_km, lines=sc.drive_lines, step_s=args.step_s,
+                                **{k: parse_value_range(getattr(args, k)) for k in
+                                   ("altitude_km", "lat_deg", "lon_deg", "phase_deg", "duration_s")})
+    plan = plan_flybys(sc.model, sc.drive_lines, sc.raw["invert"], cands, args.noise_nT, args.choose)
+    geometry = closest_approach_summary(cands, sc.model.radius_km, sc.drive_lines)
+    written = write_plan_outputs(plan, geometry, plan_payload(plan, geometry, sc), out, title=f"{sc.name}: flyby plan")
+    text = format_plan(plan, geometry, sc, args.list, sum(c.size for c in cands))
+    return "\n".join([text] + [f"wrote {w}" for w in written]), written
+
+
 #: Short names of the steps, in the order they run.
-STEP_KEYS = ("respond", "drive", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "invert")
+STEP_KEYS = ("respond", "drive", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "invert", "plan")
 
 
 def _steps(out: Path, fast: bool) -> list[DemoStep]:
@@ -307,6 +328,11 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
             key="invert", action=lambda: _invert(out / "inversion_corner", n_grid),
         ),
     ]
+    plan_argv = ["plan", "ilmare", "--altitude-km", "50,200" if fast else "50:400:4", "--lat-deg=-30,30",
+                 "--lon-deg", "90,150,210", "--phase-deg", "0:240:3" if fast else "0:300:6", "--duration-s", 3600,
+                 "--step-s", 30.0, "--noise-nT", DEMO_NOISE_NT, "--choose", 4, "--list", 8, "--out", out]
+    steps.append(DemoStep("Flyby planning: which passes teach the most about the interior", plan_argv, key="plan",
+                          action=lambda: _plan(out, plan_argv)))
     return steps
 
 
