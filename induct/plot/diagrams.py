@@ -7,6 +7,7 @@ import warnings
 
 import numpy as np
 
+from induct.model.response import phase_lag_deg
 from induct.planning.diagrams import measurement_ellipses
 from induct.text import format_number
 
@@ -66,14 +67,14 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
             ok = np.isfinite(r)
             if not ok.any():
                 continue
-            x, y = np.degrees(np.angle(r[ok])), np.abs(r[ok])
+            x, y = phase_lag_deg(r[ok]), np.abs(r[ok])
             ax.plot(x, y, color="0.45", lw=0.9, ls="--", zorder=2)
             labels.append((f"{format_number(v)} {unit2}", x[-1], y[-1]))
         for r, c in zip(result.first_curves[p], colours):
             ok = np.isfinite(r)
-            ax.plot(np.degrees(np.angle(r[ok])), np.abs(r[ok]), color=c, lw=2.0, zorder=3)
+            ax.plot(phase_lag_deg(r[ok]), np.abs(r[ok]), color=c, lw=2.0, zorder=3)
         m = result.model_response[p]
-        ax.plot([np.degrees(np.angle(m))], [abs(m)], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
+        ax.plot([float(phase_lag_deg(m))], [abs(m)], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
         if measurements is not None:
             for center, cov in measurement_ellipses(measurements, result.periods_h[p], result.degree):
                 drawn += 1
@@ -81,7 +82,7 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
                 for nsig, ls in ((1, "-"), (2, "--")):
                     plotting.covariance_ellipse(ax, center, cov, nsig, color=plotting.HIGHLIGHT, ls=ls, zorder=7)
         ax.set_title(f"period {result.periods_h[p]:g} h", fontsize=10)
-        ax.set_xlabel("phase lag (deg)")
+        ax.set_xlabel("phase $\\varphi$ = arg R (deg; induced leads ideal response by $\\varphi$)")
         ax.set_ylabel("amplitude A = |R|" if result.degree == 1 else f"amplitude A = |R_{result.degree}|")
         ax.margins(x=0.12, y=0.06)
         _place_labels(ax, labels)

@@ -54,7 +54,7 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
             ax.axhline(t, color="black", lw=1.2, ls="--", label=f"{result.k:g} x noise = {t:g} nT")
         ax.set_yscale("log")
         plotting.plain_log_ticks(ax.yaxis)
-        ax.set_ylabel("field over the pole (nT)")
+        ax.set_ylabel("field along the driving field (nT)")
     ax1.set_xscale("log")
     plotting.plain_log_ticks(ax1.xaxis)
     ax1.set_xlabel("period (h)")
@@ -69,7 +69,7 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
                 lw=1.8,
                 label=f"{result.pair_label(i)}, {period:g} h" if len(result.pairs) > 1 else f"{period:g} h",
             )
-    ax2.set_xlabel("altitude over the pole (km)")
+    ax2.set_xlabel("altitude above the sub-drive point (km)")
     ax2.set_title("difference versus altitude at the marked periods", fontsize=10)
     for ax in (ax1, ax2):
         ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.15), ncol=2, frameon=False)

@@ -18,12 +18,13 @@ SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km or conductivity_S_per
 def register(subparsers):
     p = subparsers.add_parser(
         "map",
-        help="feasibility map: amplitude, phase lag or induced field over a grid of two interior parameters",
+        help="feasibility map: amplitude, phase arg R or induced field over a grid of two interior parameters",
         description=(
             "Vary two interior parameters of a scenario over a grid and map one quantity at one driving period. "
             "Writes PREFIX.png and PREFIX.pdf (filled contours), PREFIX.nc (CF-style NetCDF) and PREFIX.csv "
             "(one row per cell). The nT quantities are the induced field (or its difference from a reference "
-            "interior) over the pole of a uniform driving field."
+            "interior) along the driving field (above the sub-drive point, on the equator for an equatorial drive) "
+            "of a uniform driving field."
         ),
         epilog=MODEL_LIMITS,
     )
@@ -32,7 +33,7 @@ def register(subparsers):
     p.add_argument("--y", required=True, metavar="SPEC", help="vertical axis, same form as --x")
     p.add_argument("--period-h", type=float, metavar="P", help="driving period (h); default: the scenario's first period")
     p.add_argument("--quantity", default="amplitude", choices=list(QUANTITIES), help="mapped quantity (default amplitude)")
-    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude over the pole for the nT quantities (km, default 0)")
+    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude above the sub-drive point (along the driving field) for the nT quantities (km, default 0)")
     p.add_argument("--drive-nT", "--drive-nt", dest="drive_nT", type=float, metavar="NT", help="driving-field amplitude (nT), needed by the nT quantities")
     p.add_argument("--reference", metavar="OTHER.toml", help="reference interior (scenario file or bundled name) for difference_nT")
     p.add_argument("--data", metavar="MEASUREMENTS.toml", help="measured responses ([[response]] tables, or a bundled name such as ilmare_measured): overlay the 1 and 2 sigma regions")
