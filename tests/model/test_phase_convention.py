@@ -73,7 +73,7 @@ def test_induced_field_leads_the_perfect_conductor_response_by_phi():
 def test_weak_conductor_follows_minus_dB_dt():
     # Uniform sphere with R/delta = 0.05: Born (Parkinson 1983; domain sheet) gives R_1 = i w mu0 sigma R^2/15 to
     # relative O((R/delta)^2) ~ 3e-3, so along the driving field B_ind = -(R/r)^3 (mu0 sigma R^2 / 15) dB/dt.
-    # Tolerance: 1 % of the peak induced field (measured about 0.1 %); phi within 0.5 deg of 90 (measured 0.03).
+    # Tolerance: 1 % of the peak induced field (measured 0.05 %); phi within 0.5 deg of 90 (measured 0.03).
     radius_m = RADIUS_KM * 1e3
     omega = 2 * np.pi / PERIOD_S
     sigma = 2.0 * (0.05 / radius_m) ** 2 / (omega * MU0)          # delta = R / 0.05
