@@ -8,6 +8,7 @@ import numpy as np
 
 from induct.planning.maps import DEFAULT_TASK_SIZE, QUANTITIES, feasibility_map, parse_axis_spec
 from induct.cli.commands._cluster import add_cluster_options, backend_for
+from induct.cli.commands._truth import add_truth_option, truth_from_args
 from induct.io.measurements import load_measurements
 from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
@@ -48,6 +49,7 @@ def register(subparsers):
     p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix: writes PREFIX.png, .pdf, .nc, .csv")
     p.add_argument("--no-netcdf", action="store_true", help="do not write PREFIX.nc (no xarray/h5netcdf needed)")
     p.add_argument("--progress", action="store_true", help="show a progress bar")
+    add_truth_option(p)
     add_cluster_options(p, DEFAULT_TASK_SIZE)
     return p
 
@@ -71,9 +73,11 @@ def run(args) -> int:
         ref_scenario = load_scenario(args.reference)
         reference, label = ref_scenario.model, Path(args.reference).stem
     measurements = load_measurements(args.data) if args.data else None
+    axes = [parse_axis_spec(spec, scenario.model, flag).parameter for spec, flag in ((args.x, "--x"), (args.y, "--y"))]
+    truth = truth_from_args(args, scenario.model, axes, require_all=True)
     with backend_for(args) as backend:
         result = _compute(args, scenario, period, reference, label, measurements, backend)
-    return _write(args, scenario, result)
+    return _write(args, scenario, result, truth)
 
 
 def _compute(args, scenario, period, reference, label, measurements, backend):
@@ -98,13 +102,13 @@ def _compute(args, scenario, period, reference, label, measurements, backend):
     )
 
 
-def _write(args, scenario, result) -> int:
+def _write(args, scenario, result, truth=None) -> int:
     from induct.io.map_files import write_map_files
     from induct.plot.maps import plot_map
 
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
-    written = plot_map(result, prefix)
+    written = plot_map(result, prefix, truth=truth)
     written += write_map_files(result, prefix, netcdf=not args.no_netcdf)
     print(format_map_summary(scenario.name, result, written))
     return 0
