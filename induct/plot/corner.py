@@ -27,8 +27,8 @@ def _label(p) -> str:
     return parameter_label(p.name)  # "ocean conductivity (S/m)": the unit once
 
 
-#: True values in corner and map figures (white diamond, vermillion edge; as in :mod:`induct.plot.maps`).
-TRUTH_COLOR = "#D55E00"
+#: True values in corner and map figures (white diamond, reddish-purple edge; as in :mod:`induct.plot.maps`).
+TRUTH_COLOR = "#CC79A7"  # Okabe-Ito reddish purple: distinct from the vermillion best fit
 TRUTH_MARKER = {"marker": "D", "ms": 7, "mfc": "white", "mec": TRUTH_COLOR, "mew": 1.8}
 
 

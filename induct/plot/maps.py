@@ -111,8 +111,8 @@ def plot_map(result, path=None, *, levels: int = 12, formats=("png", "pdf"), tru
     return plotting.save_figure(fig, path, formats=formats)
 
 
-#: Marker of true values in maps and corner figures (white diamond, vermillion edge).
-TRUTH_MARKER = {"marker": "D", "ms": 8, "mfc": "white", "mec": "#D55E00", "mew": 2.0}
+#: Marker of true values in maps and corner figures (white diamond, reddish-purple edge; as in :mod:`induct.plot.corner`).
+TRUTH_MARKER = {"marker": "D", "ms": 8, "mfc": "white", "mec": "#CC79A7", "mew": 2.0}
 
 
 def _truth_point(result, truth):
