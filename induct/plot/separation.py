@@ -47,7 +47,9 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
         ax1.plot(result.periods_h, result.difference_nT[i], color=colours[i % len(colours)], lw=2.2, label=f"difference {result.pair_label(i)}")
     for p in result.marked_periods_h:
         ax1.axvline(p, color="0.35", lw=0.8, ls=":")
-        ax1.annotate(f"{p:g} h", (p, 1.0), xycoords=("data", "axes fraction"), xytext=(2, -3), textcoords="offset points", rotation=90, va="top", fontsize=7.5, color="0.3")
+        # Named above the top spine, outside the data (labels inside the axes crossed the curves).
+        ax1.annotate(f"{p:g} h", (p, 1.0), xycoords=("data", "axes fraction"), xytext=(0, 3), textcoords="offset points",
+                     rotation=90, ha="center", va="bottom", fontsize=7.5, color="0.3")
     t = result.threshold_nT
     for ax in (ax1, ax2):
         if t is not None:
@@ -58,7 +60,8 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
     ax1.set_xscale("log")
     plotting.plain_log_ticks(ax1.xaxis)
     ax1.set_xlabel("period (h)")
-    ax1.set_title(f"versus period, {result.altitude_km:g} km altitude", fontsize=10)
+    ax1.set_title(f"versus period, {result.altitude_km:g} km altitude", fontsize=10,
+                  pad=34 if len(result.marked_periods_h) else 6)
     for i in range(len(result.pairs)):
         for q, period in enumerate(result.marked_periods_h):
             ax2.plot(
