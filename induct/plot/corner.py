@@ -65,6 +65,30 @@ def _mass_levels(mass: np.ndarray, fractions=(0.95, 0.68)) -> list[float]:
     return sorted(set(levels))
 
 
+def _free_corner(mass, xe, ye, xlim, ylim, xlog, ylog, wide=0.45, tall=0.14):
+    """The panel corner (fx, fy in {0, 1}) whose label-sized box holds the least posterior mass.
+
+    ``mass`` has shape (len(xe) - 1, len(ye) - 1) on the cell edges ``xe``, ``ye``
+    (field units); the box is ``wide`` x ``tall`` of the shown axes (log axes in log units).
+    """
+    def frac(edges, lim, log):
+        f = np.log10 if log else (lambda v: np.asarray(v, dtype=float))
+        mid = 0.5 * (f(edges[:-1]) + f(edges[1:]))
+        lo, hi = f(lim[0]), f(lim[1])
+        return (mid - lo) / (hi - lo)
+
+    u, v = frac(np.asarray(xe), xlim, xlog), frac(np.asarray(ye), ylim, ylog)
+    best, corner = None, (0, 1)
+    for fy in (1, 0):
+        rows = (v >= 1 - tall) & (v <= 1) if fy else (v >= 0) & (v <= tall)
+        for fx in (0, 1):
+            cols = (u >= 0) & (u <= wide) if fx == 0 else (u >= 1 - wide) & (u <= 1)
+            inside = float(mass[np.ix_(cols, rows)].sum())
+            if best is None or inside < best - 1e-12 * float(mass.sum()):
+                best, corner = inside, (fx, fy)
+    return corner
+
+
 def corner_figure(result: PosteriorResult, title: str | None = None, truth=None):
     """Build the corner figure of ``result``; returns the matplotlib figure (not saved).
 
@@ -124,7 +148,9 @@ def corner_figure(result: PosteriorResult, title: str | None = None, truth=None)
             ax.plot([tj], [ti], ls="none", zorder=5, **TRUTH_MARKER)
         r = result.correlation[i, j]
         flag = " trade-off" if abs(r) > CORRELATION_THRESHOLD else ""
-        ax.text(0.03, 0.95, f"r = {r:+.2f}{flag}", transform=ax.transAxes, fontsize=7, va="top",
+        fx, fy = _free_corner(mass, xs[j], xs[i], view[j], view[i], params[j].log, params[i].log)
+        ax.text(0.03 if fx == 0 else 0.97, 0.95 if fy == 1 else 0.05, f"r = {r:+.2f}{flag}", transform=ax.transAxes,
+                fontsize=7, va="top" if fy == 1 else "bottom", ha="left" if fx == 0 else "right",
                 color="white", bbox=dict(facecolor="black", alpha=0.35, lw=0, pad=1.5))
     for i, p in enumerate(params):
         for row in range(k):

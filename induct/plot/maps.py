@@ -82,10 +82,12 @@ def plot_map(result, path=None, *, levels: int = 12, formats=("png", "pdf"), tru
     if result.detection_threshold_nT is not None:
         handles.extend(_detectability(ax, result, xv, yv, z, Line2D, Patch))
     bx, by = result.base_point
+    same = true_xy is not None and np.allclose(true_xy, (bx, by), rtol=1e-9, atol=0.0)
     if xv[0] <= bx <= xv[-1] and yv[0] <= by <= yv[-1]:
         ax.plot([bx], [by], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
-        handles.append(Line2D([], [], marker="*", ms=12, mfc="white", mec="black", ls="none", label=f"{result.body} model"))
-    if true_xy is not None:
+        label = f"{result.body} model" + (" = true values" if same else "")
+        handles.append(Line2D([], [], marker="*", ms=12, mfc="white", mec="black", ls="none", label=label))
+    if true_xy is not None and not same:
         ax.plot([true_xy[0]], [true_xy[1]], **TRUTH_MARKER, ls="none", zorder=7, clip_on=False)
         inside = xv[0] <= true_xy[0] <= xv[-1] and yv[0] <= true_xy[1] <= yv[-1]
         handles.append(Line2D([], [], **TRUTH_MARKER, ls="none", label="true values" + ("" if inside else " (outside the map)")))
