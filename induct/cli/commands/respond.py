@@ -32,12 +32,16 @@ def register(subparsers):
     return p
 
 
-def response_columns(result) -> list[Column]:
-    """Table columns for a ModelResponse: period, A, phase arg R, Re, Im, C, skin depths."""
+def response_columns(result, *, csv: bool = False) -> list[Column]:
+    """Table columns for a ModelResponse: period, A, phase arg R, Re, Im, C, skin depths.
+
+    With ``csv`` the phase column keeps its established machine name ``phase_lag_deg``
+    (as in the JSON output and measurement files); the text table says what it is, arg R.
+    """
     cols = [
         Column("period", "h", result.periods_h, ".4f"),
         Column("A", "", result.amplitude, ".6f"),
-        Column("phase arg R", "deg", result.phase_lag_deg, ".4f"),
+        Column("phase lag" if csv else "phase arg R", "deg", result.phase_lag_deg, ".4f"),
         Column("Re R", "", result.response.real, ".6f"),
         Column("Im R", "", result.response.imag, ".6f"),
         Column("Re C", "km", result.c_response_km.real, ".2f"),
@@ -67,7 +71,7 @@ def run(args) -> int:
         }
         print(json.dumps(payload, indent=2))
         return 0
-    cols = response_columns(result)
+    cols = response_columns(result, csv=True)
     if args.csv:
         text = table_csv(cols)
         if args.csv == "-":
