@@ -79,7 +79,7 @@ __all__ = [
 #: Map quantities: name -> (label, unit shown on figures, CF unit, needs a driving amplitude).
 QUANTITIES = {
     "amplitude": ("amplitude A = |R|", "", "1", False),
-    "phase_lag_deg": ("phase $\\varphi$ = arg R (induced leads ideal response by $\\varphi$)", "deg", "degree", False),
+    "phase_lag_deg": ("phase phi = arg R (lead on a perfect conductor)", "deg", "degree", False),
     "induced_nT": ("induced field along the driving field", "nT", "nT", True),
     "difference_nT": ("induced-field difference along the driving field", "nT", "nT", True),
 }

@@ -105,7 +105,7 @@ def separation_columns(result) -> list[Column]:
 
 def format_separation_summary(result, cols, written=()) -> str:
     """The text ``induct separate`` prints: candidates, the summary table, the files and the model's limits."""
-    lines = [f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT over the pole"]
+    lines = [f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT, field along the driving field"]
     lines.append(format_table(cols))
     lines.extend(f"wrote {path}" for path in written)
     lines.append(MODEL_LIMITS)
