@@ -124,7 +124,8 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
 #: Offsets (points) and alignments tried for a curve label, in order of preference.
 _LABEL_OFFSETS = ((3, -3, "left", "top"), (-3, -3, "right", "top"), (3, 3, "left", "bottom"),
                   (-3, 3, "right", "bottom"), (3, -13, "left", "top"), (-3, -13, "right", "top"),
-                  (3, 13, "left", "bottom"), (-3, 13, "right", "bottom"))
+                  (3, 13, "left", "bottom"), (-3, 13, "right", "bottom"), (-22, -3, "right", "top"),
+                  (22, -3, "left", "top"))
 
 
 def _place_labels(ax, labels, avoid=(), marker_px: float = 9.0) -> list:
