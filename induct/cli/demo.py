@@ -41,7 +41,7 @@ DEMO_NOISE_NT = 0.5
 DEMO_DRIVE_NT = 200.0
 #: Synodic period (h) of the maps (the scenario's first driving period, rounded).
 DEMO_MAP_PERIOD_H = 12.12
-#: Altitude over the pole (km) of the difference map.
+#: Altitude (km) of the difference map, above the sub-drive point (along the driving field).
 DEMO_MAP_ALTITUDE_KM = 100.0
 
 #: The report's statement of what the model leaves out.
@@ -161,7 +161,16 @@ def _sheet_difference(track_path: Path) -> str:
     ])
 
 
-def _map(prefix: Path, n: int, netcdf: bool, **kwargs):
+def _truth(names):
+    """The synthetic measurements were made from the ilmare scenario: its own values are the truth."""
+    from induct.io.scenario import load_scenario
+    from induct.model.parameters import parameter_value
+
+    model = load_scenario("ilmare").model
+    return {name: parameter_value(model, name) for name in names}
+
+
+def _map(prefix: Path, n: int, netcdf: bool, truth=False, **kwargs):
     from induct.cli.commands.map import format_map_summary
     from induct.io.map_files import write_map_files
     from induct.io.scenario import load_scenario
@@ -173,7 +182,8 @@ def _map(prefix: Path, n: int, netcdf: bool, **kwargs):
         scenario.model, f"ice shell.thickness_km=2:60:{n}", f"ocean.conductivity_S_per_m=0.1:30:{n}:log",
         DEMO_MAP_PERIOD_H, **kwargs,
     )
-    written = plot_map(result, prefix)
+    marks = _truth([result.x.parameter, result.y.parameter]) if truth else None
+    written = plot_map(result, prefix, truth=marks)
     written += write_map_files(result, prefix, netcdf=netcdf)
     return format_map_summary(scenario.name, result, written), written
 
@@ -181,7 +191,7 @@ def _map(prefix: Path, n: int, netcdf: bool, **kwargs):
 def _map_amplitude(prefix: Path, n: int, netcdf: bool):
     from induct.io.measurements import load_measurements
 
-    return _map(prefix, n, netcdf, quantity="amplitude", measurements=load_measurements("ilmare_measured"))
+    return _map(prefix, n, netcdf, truth=True, quantity="amplitude", measurements=load_measurements("ilmare_measured"))
 
 
 def _map_difference(prefix: Path, n: int, netcdf: bool):
@@ -240,7 +250,7 @@ def _invert(prefix: Path, grid: int):
     data = load_measurements("ilmare_measured")
     params = parse_parameters(scenario.raw["invert"], scenario.model, f"{scenario.path or scenario.name}: [invert]")
     result = invert(scenario.model, data, params, grid_points=grid)
-    written = save_corner(result, prefix, title=f"{scenario.name} ({data.source})")
+    written = save_corner(result, prefix, title=f"{scenario.name} ({data.source})", truth=_truth([q.name for q in params]))
     text = "\n".join([format_summary(result, scenario, data, 10)] + [f"wrote {w}" for w in written])
     return text, written
 
@@ -300,7 +310,7 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
         DemoStep(
             "Feasibility map: amplitude at the synodic period, with the measurements",
             ["map", "ilmare", *axes, "--quantity", "amplitude", "--data", "ilmare_measured",
-             "--out", out / "map_amplitude", *no_nc],
+             "--truth", "ilmare", "--out", out / "map_amplitude", *no_nc],
             key="map_amplitude", action=lambda: _map_amplitude(out / "map_amplitude", n_map, netcdf),
         ),
         DemoStep(
@@ -324,7 +334,7 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
         DemoStep(
             "Inversion of the synthetic measurements",
             ["invert", "ilmare", "--data", "ilmare_measured", "--grid", n_grid, "--plot", out / "inversion_corner",
-             "--no-progress"],
+             "--truth", "ilmare", "--no-progress"],
             key="invert", action=lambda: _invert(out / "inversion_corner", n_grid),
         ),
     ]

@@ -29,6 +29,7 @@ import numpy as np
 
 from induct import __version__
 from induct.constants import MODEL_LIMITS
+from induct.model.response import phase_lag_deg
 
 __all__ = ["FLYBY_LIMITS", "SNR_DEFINITIONS", "FlybyComparison", "FlybyPrediction", "predict_flyby",
            "synthetic_residuals", "degree2_consistency_notes"]
@@ -175,7 +176,7 @@ class FlybyPrediction:
             "lines": [
                 {"label": ln.label, "period_h": ln.period_h, "response_real": float(rr.real),
                  "response_imag": float(rr.imag), "amplitude": float(abs(rr)),
-                 "phase_lag_deg": float(np.degrees(np.angle(rr)))}
+                 "phase_lag_deg": float(phase_lag_deg(rr))}
                 for ln, rr in zip(self.lines, self.responses)
             ],
             "degree2": self.degree2_description,

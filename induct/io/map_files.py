@@ -98,7 +98,7 @@ def map_dataset(result: MapResult):
         "x_parameter": result.x.parameter,
         "y_parameter": result.y.parameter,
         "fixed_parameters": "; ".join(result.fixed),
-        "time_convention": "exp(+i w t); R_n = A exp(i phi), phase lag phi in degrees",
+        "time_convention": "exp(+i w t); R_n = A exp(i phi), phi in degrees; the induced field leads the perfect-conductor response by phi and lags the inducing field by 180 - phi",
         "comment": MODEL_LIMITS,
     }
     for key in ("altitude_km", "drive_nT", "reference", "noise_nT", "k", "detection_threshold_nT"):

@@ -45,6 +45,7 @@ from pathlib import Path
 import numpy as np
 
 from induct.model.kernel import MAX_DEGREE
+from induct.model.response import phase_lag_deg
 
 __all__ = ["Measurements", "parse_measurements", "load_measurements", "resolve_data_path"]
 
@@ -114,11 +115,11 @@ class Measurements:
         """
         r = np.asarray(response)
         if self.polar.all():
-            return np.stack([np.abs(r), np.degrees(np.angle(r))], axis=-1)
+            return np.stack([np.abs(r), phase_lag_deg(r)], axis=-1)
         if not self.polar.any():
             return np.stack([r.real, r.imag], axis=-1)
         first = np.where(self.polar, np.abs(r), r.real)
-        second = np.where(self.polar, np.degrees(np.angle(r)), r.imag)
+        second = np.where(self.polar, phase_lag_deg(r), r.imag)
         return np.stack([first, second], axis=-1)
 
     def chi2(self, response) -> np.ndarray:

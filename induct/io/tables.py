@@ -15,6 +15,7 @@ from typing import Sequence
 import numpy as np
 
 from induct.io.files import atomic_open, write_text
+from induct.model.response import phase_lag_deg
 
 __all__ = ["csv_name", "table_csv", "write_table_csv", "write_diagram_csv", "write_separation_csv"]
 
@@ -111,10 +112,10 @@ def write_diagram_csv(result, path) -> Path:
         for p, period in enumerate(result.periods_h):
             for v, curve in zip(result.first_values, result.first_curves[p]):
                 for s, r in zip(s_dense, curve):
-                    writer.writerow([repr(float(period)), f"constant {result.first.parameter}", repr(float(v)), repr(float(s)), repr(float(abs(r))), repr(float(np.degrees(np.angle(r))))])
+                    writer.writerow([repr(float(period)), f"constant {result.first.parameter}", repr(float(v)), repr(float(s)), repr(float(abs(r))), repr(float(phase_lag_deg(r)))])
             for v, curve in zip(result.second_values, result.second_curves[p]):
                 for f, r in zip(f_dense, curve):
-                    writer.writerow([repr(float(period)), f"constant {result.second.parameter}", repr(float(f)), repr(float(v)), repr(float(abs(r))), repr(float(np.degrees(np.angle(r))))])
+                    writer.writerow([repr(float(period)), f"constant {result.second.parameter}", repr(float(f)), repr(float(v)), repr(float(abs(r))), repr(float(phase_lag_deg(r)))])
     return path
 
 

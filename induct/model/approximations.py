@@ -88,7 +88,7 @@ def born_low_frequency(radii_m, conductivity_S_per_m, period_s, degree: int = 1)
     """First-order low-frequency estimate for any layered sigma(r).
 
     R_n ~ i w mu0 / ((2n+1) R**(2n+1)) * integral_0^R sigma(r) r**(2n+2) dr,
-    exact in the limit R/delta -> 0 (phase lag -> 90 degrees). For a uniform
+    exact in the limit R/delta -> 0 (phase -> 90 degrees: the induced field follows -dB/dt). For a uniform
     sphere and n = 1: A ~ (2/15)(R/delta)**2.
 
     Parameters

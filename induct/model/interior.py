@@ -123,7 +123,7 @@ class ModelResponse:
 
     @property
     def phase_lag_deg(self) -> np.ndarray:
-        """Phase lag (degrees, 0-90), shape (P,)."""
+        """Phase phi = arg R_n (degrees, 0-90), shape (P,): the induced field leads the perfect-conductor response by phi."""
         return phase_lag_deg(self.response)
 
     @property

@@ -37,6 +37,7 @@ __all__ = [
     "check_parameter_range",
     "parameter_label",
     "parameter_value",
+    "parse_truth",
 ]
 
 
@@ -331,3 +332,66 @@ def parameter_value(model, key: str) -> float:
     if value is None or isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
         return float("nan")
     return float(value)
+
+
+def parse_truth(items, model, names, where: str = "--truth") -> dict:
+    """True parameter values from ``"LAYER.FIELD=VALUE"`` strings, for figures that mark them.
+
+    Parameters
+    ----------
+    items : sequence of str
+        ``"LAYER.FIELD=VALUE"`` assignments (value in the field's unit). (The
+        command line also accepts a scenario instead, whose own values are the
+        truth: :func:`parameter_value`.)
+    model : InteriorModel
+        The model whose parameters are named (checks layer and field names).
+    names : sequence of str
+        The parameters the figure shows; every assignment must name one of them.
+    where : str
+        Prefix of error messages.
+
+    Returns
+    -------
+    dict of str to float
+        Value (field units) by parameter name.
+
+    Raises
+    ------
+    ValueError
+        A malformed item, an unknown or repeated parameter, one the figure does
+        not show, or a value that is not a finite number in the field's domain.
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> model = load_scenario("ilmare").model
+    >>> parse_truth(["ocean.conductivity_S_per_m=3", "ice shell.thickness_km=25"], model,
+    ...             ["ice shell.thickness_km", "ocean.conductivity_S_per_m"])
+    {'ocean.conductivity_S_per_m': 3.0, 'ice shell.thickness_km': 25.0}
+    """
+    out = {}
+    shown = list(names)
+    for item in items:
+        key, sep, text = str(item).partition("=")
+        key = key.strip()
+        if not sep or not key:
+            raise ValueError(f"{where}: expected LAYER.FIELD=VALUE (e.g. 'ocean.conductivity_S_per_m=3') or one scenario, got {item!r}")
+        try:
+            split_parameter(key)
+        except ValueError as exc:
+            raise ValueError(f"{where}: {exc}") from None
+        check_parameter_name(key, model, where)
+        if key not in shown:
+            raise ValueError(f"{where}: {key!r} is not shown in this figure (shown: {', '.join(shown)})")
+        if key in out:
+            raise ValueError(f"{where}: {key!r} given twice")
+        try:
+            value = float(text)
+        except ValueError:
+            raise ValueError(f"{where}: {key!r} needs a number, got {text.strip()!r}") from None
+        info = FIELDS[split_parameter(key)[1]]
+        if not math.isfinite(value) or value < info.lowest or (value == info.lowest and not info.inclusive):
+            rel = ">=" if info.inclusive else ">"
+            raise ValueError(f"{where}: {key!r} must be a finite number {rel} {info.lowest:g} {info.unit}, got {text.strip()!r}")
+        out[key] = value
+    return out

@@ -1,4 +1,4 @@
-"""Amplitude-phase diagrams: where families of interiors fall in the (phase lag, amplitude) plane.
+"""Amplitude-phase diagrams: where families of interiors fall in the (phase arg R, amplitude) plane.
 
 For each driving period the diagram draws two families of curves over a grid
 of two interior parameters (usually the ice-shell thickness and the ocean
@@ -220,9 +220,9 @@ def measured_periods_h(measurements, degree: int = 1) -> np.ndarray:
 
 
 def measurement_ellipses(measurements, period_h: float, degree: int = 1, rtol: float = PERIOD_RTOL):
-    """Measured points and covariances in the (phase lag, amplitude) plane for one period.
+    """Measured points and covariances in the (phase arg R, amplitude) plane for one period.
 
-    Entries given as real and imaginary parts are carried over to (phase lag,
+    Entries given as real and imaginary parts are carried over to (phase,
     amplitude) to first order, ``C' = J C J^T`` with the Jacobian J of
     (phi_deg, A) with respect to (Re, Im).
 

@@ -7,13 +7,18 @@ and evaluates one quantity at one driving period:
 ``amplitude``
     A = |R_n| (dimensionless).
 ``phase_lag_deg``
-    phase lag phi = arg R_n (degrees).
+    phase phi = arg R_n (degrees; the name is kept for compatibility): the
+    induced field leads the perfect-conductor response by phi and lags the
+    inducing field by 180 - phi degrees (:func:`induct.model.response.phase_lag_deg`).
 ``induced_nT``
-    magnitude of the induced field (nT) at ``altitude_km`` over the pole of a
-    uniform driving field of amplitude ``drive_nT``. The induced dipole field is
-    ``B_ind(r) = -(R_1/2) (R/|r|)**3 [3 (B_e . rhat) rhat - B_e]``; over the pole
-    (rhat parallel to B_e) it is ``-R_1 (R/r)**3 B_e``, of magnitude
-    ``|R_1| (R/r)**3 |B_e|`` with ``r = R + altitude``.
+    magnitude of the induced field (nT) at ``altitude_km`` along the driving
+    field, i.e. above the sub-drive point where the direction of a uniform
+    driving field of amplitude ``drive_nT`` leaves the body (for a drive in the
+    equatorial plane this point is on the equator, not at a pole). The induced
+    dipole field is ``B_ind(r) = -(R_1/2) (R/|r|)**3 [3 (B_e . rhat) rhat - B_e]``;
+    along the driving field (rhat parallel to B_e) it is ``-R_1 (R/r)**3 B_e``,
+    of magnitude ``|R_1| (R/r)**3 |B_e|`` with ``r = R + altitude``: the
+    strongest induced field at that altitude (twice the value at right angles).
 ``difference_nT``
     magnitude of the difference of the complex induced fields of the map's
     interior and a fixed reference interior at the same point,
@@ -58,7 +63,7 @@ from induct.constants import SECONDS_PER_HOUR
 from induct.parallel.execution import DEFAULT_TASK_SIZE, run_reduction
 from induct.model.interior import InteriorModel
 from induct.model.parameters import Parameter, check_parameter_name, check_parameter_range, parameter_value
-from induct.model.response import check_degree
+from induct.model.response import check_degree, phase_lag_deg
 
 __all__ = [
     "AxisSpec",
@@ -74,9 +79,9 @@ __all__ = [
 #: Map quantities: name -> (label, unit shown on figures, CF unit, needs a driving amplitude).
 QUANTITIES = {
     "amplitude": ("amplitude A = |R|", "", "1", False),
-    "phase_lag_deg": ("phase lag", "deg", "degree", False),
-    "induced_nT": ("induced field over the pole", "nT", "nT", True),
-    "difference_nT": ("induced-field difference over the pole", "nT", "nT", True),
+    "phase_lag_deg": ("phase phi = arg R (lead on a perfect conductor)", "deg", "degree", False),
+    "induced_nT": ("induced field along the driving field", "nT", "nT", True),
+    "difference_nT": ("induced-field difference along the driving field", "nT", "nT", True),
 }
 
 _SPEC_HELP = "expected 'LAYER.FIELD=lo:hi:n[:log]' (e.g. 'ice shell.thickness_km=5:60:100' or 'ocean.conductivity_S_per_m=0.1:30:80:log')"
@@ -403,7 +408,8 @@ def feasibility_map(
     degree : int
         Degree n of the driving field for the mapped quantity (the nT quantities need n = 1).
     altitude_km : float
-        Altitude (km) over the pole for the nT quantities, >= 0.
+        Altitude (km) of the evaluation point along the driving field (above the
+        sub-drive point) for the nT quantities, >= 0.
     drive_nT : float
         Amplitude |B_e| (nT) of the uniform driving field; required for the nT quantities.
     reference : InteriorModel
@@ -543,7 +549,7 @@ def _quantity(quantity, response, model, reference, period_h, degree, altitude_k
     if quantity == "amplitude":
         return np.abs(response)
     if quantity == "phase_lag_deg":
-        return np.degrees(np.angle(response))
+        return phase_lag_deg(response)
     scale = dipole_factor(model.radius_km, altitude_km) * drive_nT
     if quantity == "induced_nT":
         return np.abs(response) * scale

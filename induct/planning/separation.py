@@ -1,8 +1,9 @@
 """Where candidate interiors separate: induced-field differences versus period and altitude.
 
 For two or more candidate interiors of the same body, this module computes
-the induced field over the pole of a uniform driving field of amplitude
-``drive_nT`` and, for every pair of candidates, the magnitude of the
+the induced field along the driving field (above the sub-drive point, where
+the direction of a uniform driving field of amplitude ``drive_nT`` leaves the
+body; on the equator for an equatorial drive) and, for every pair of candidates, the magnitude of the
 difference of their complex induced fields,
 
     dB(T, h) = |R_1,a(T) - R_1,b(T)| (R / (R + h))**3 |B_e|   (nT),
@@ -46,7 +47,7 @@ class SeparationResult:
     altitude_km : float
         Altitude (km) of the period curves.
     induced_nT : ndarray, shape (K, P)
-        Induced field over the pole (nT) of each candidate at ``altitude_km``.
+        Induced field along the driving field (nT) of each candidate at ``altitude_km``.
     difference_nT : ndarray, shape (N, P)
         Difference field of each pair (nT) at ``altitude_km``.
     marked_periods_h : ndarray, shape (Q,)
@@ -137,7 +138,7 @@ def separation(
     periods_h : array_like, shape (P,), optional
         Period grid (h); default 200 values from 0.5 h to 1000 h, logarithmic.
     altitude_km : float
-        Altitude (km) over the pole of the period curves, >= 0.
+        Altitude (km) above the sub-drive point of the period curves, >= 0.
     marked_periods_h : array_like, shape (Q,), optional
         Periods (h) of the altitude curves (sorted); default the ends and middle of ``periods_h``.
     altitudes_km : array_like, shape (H,), optional

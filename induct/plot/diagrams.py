@@ -7,6 +7,7 @@ import warnings
 
 import numpy as np
 
+from induct.model.response import phase_lag_deg
 from induct.planning.diagrams import measurement_ellipses
 from induct.text import format_number
 
@@ -57,6 +58,7 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
     colours = [cmap(0.8 * i / max(1, result.first_values.size - 1)) for i in range(result.first_values.size)]
     unit1, unit2 = result.first.unit, result.second.unit
     drawn = 0
+    pending = []
     for p, ax in enumerate(axes.ravel()):
         if p >= npanel:
             ax.set_visible(False)
@@ -66,14 +68,14 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
             ok = np.isfinite(r)
             if not ok.any():
                 continue
-            x, y = np.degrees(np.angle(r[ok])), np.abs(r[ok])
+            x, y = phase_lag_deg(r[ok]), np.abs(r[ok])
             ax.plot(x, y, color="0.45", lw=0.9, ls="--", zorder=2)
             labels.append((f"{format_number(v)} {unit2}", x[-1], y[-1]))
         for r, c in zip(result.first_curves[p], colours):
             ok = np.isfinite(r)
-            ax.plot(np.degrees(np.angle(r[ok])), np.abs(r[ok]), color=c, lw=2.0, zorder=3)
+            ax.plot(phase_lag_deg(r[ok]), np.abs(r[ok]), color=c, lw=2.0, zorder=3)
         m = result.model_response[p]
-        ax.plot([np.degrees(np.angle(m))], [abs(m)], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
+        ax.plot([float(phase_lag_deg(m))], [abs(m)], marker="*", ms=14, mfc="white", mec="black", ls="none", zorder=6)
         if measurements is not None:
             for center, cov in measurement_ellipses(measurements, result.periods_h[p], result.degree):
                 drawn += 1
@@ -81,10 +83,13 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
                 for nsig, ls in ((1, "-"), (2, "--")):
                     plotting.covariance_ellipse(ax, center, cov, nsig, color=plotting.HIGHLIGHT, ls=ls, zorder=7)
         ax.set_title(f"period {result.periods_h[p]:g} h", fontsize=10)
-        ax.set_xlabel("phase lag (deg)")
+        ax.set_xlabel("phase $\\varphi$ = arg R (deg)")
         ax.set_ylabel("amplitude A = |R|" if result.degree == 1 else f"amplitude A = |R_{result.degree}|")
         ax.margins(x=0.12, y=0.06)
-        _place_labels(ax, labels)
+        avoid = [(float(phase_lag_deg(m)), abs(m))]  # the model's star and the measured points stay visible
+        if measurements is not None:
+            avoid += [tuple(center) for center, _ in measurement_ellipses(measurements, result.periods_h[p], result.degree)]
+        pending.append((ax, labels, avoid))
     if measurements is not None and drawn < measurements.n_entries:
         warnings.warn(
             f"{measurements.n_entries - drawn} measurement(s) match no panel's period or degree and are not drawn",
@@ -106,32 +111,62 @@ def plot_diagram(result, path=None, *, measurements=None, formats=("png", "pdf")
     )
     title = f"{result.body}: amplitude-phase diagram (degree {result.degree})"
     sub = "fixed: " + "; ".join(result.fixed)
-    fig.suptitle(plotting.wrap(title, 100) + "\n" + plotting.wrap(sub, 120), fontsize=10)
+    meaning = "$\\varphi$ = arg R: the induced field leads the perfect-conductor response by $\\varphi$"
+    fig.suptitle(plotting.wrap(title, 100) + "\n" + plotting.wrap(sub, 120) + "\n" + meaning, fontsize=10)
     fig.tight_layout(rect=(0, 0.03, 1, 1))
+    for ax, labels, avoid in pending:  # after the layout, so that label extents are final
+        _place_labels(ax, labels, avoid)
     if path is None:
         return fig
     return plotting.save_figure(fig, path, formats=formats)
 
 
-def _place_labels(ax, labels, min_dx_px: float = 45.0, min_dy_px: float = 11.0) -> None:
-    """Write curve labels at their anchors, leaving out any that would overlap one already written."""
-    ax.get_xlim(), ax.get_ylim()  # settle the autoscaled limits before using the transform
+#: Offsets (points) and alignments tried for a curve label, in order of preference.
+_LABEL_OFFSETS = ((3, -3, "left", "top"), (-3, -3, "right", "top"), (3, 3, "left", "bottom"),
+                  (-3, 3, "right", "bottom"), (3, -13, "left", "top"), (-3, -13, "right", "top"),
+                  (3, 13, "left", "bottom"), (-3, 13, "right", "bottom"), (-22, -3, "right", "top"),
+                  (22, -3, "left", "top"))
+
+
+def _place_labels(ax, labels, avoid=(), marker_px: float = 9.0) -> list:
+    """Write curve labels near their anchors so that no two overlap and each stays inside the axes.
+
+    Each label tries the offsets of ``_LABEL_OFFSETS`` around its anchor and takes the
+    first whose rendered extent (padded by 4 px) overlaps no label already written and
+    lies within the axes; a label with no such place is left out (the curve is still
+    drawn and the legend names the family). Labels also keep ``marker_px`` pixels
+    away from the data points in ``avoid`` (markers). Returns the written annotations.
+    """
+    from matplotlib.transforms import Bbox
+
+    fig = ax.figure
+    # The figure has no backend (no pyplot): matplotlib's own layout renderer measures the text.
+    renderer = fig.canvas.get_renderer() if hasattr(fig.canvas, "get_renderer") else fig._get_renderer()
+    frame = ax.get_window_extent(renderer)
+    written = []
     placed = []
-    for text, x, y in labels:
+    for x, y in avoid:
         px, py = ax.transData.transform((x, y))
-        if any(abs(px - qx) < min_dx_px and abs(py - qy) < min_dy_px for qx, qy in placed):
-            continue
-        placed.append((px, py))
-        ax.annotate(
-            text,
-            (x, y),
-            xytext=(3, -3),
-            textcoords="offset points",
-            fontsize=7.5,
-            color="0.25",
-            va="top",
-            bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.7},
-            zorder=5,
-        )
-
-
+        placed.append(Bbox([[px - marker_px, py - marker_px], [px + marker_px, py + marker_px]]))
+    for text, x, y in labels:
+        for dx, dy, ha, va in _LABEL_OFFSETS:
+            ann = ax.annotate(
+                text,
+                (x, y),
+                xytext=(dx, dy),
+                textcoords="offset points",
+                ha=ha,
+                va=va,
+                fontsize=7.5,
+                color="0.25",
+                bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.7},
+                zorder=5,
+            )
+            box = ann.get_window_extent(renderer).padded(4.0)
+            inside = frame.x0 <= box.x0 and box.x1 <= frame.x1 and frame.y0 <= box.y0 and box.y1 <= frame.y1
+            if inside and not any(box.overlaps(other) for other in placed):
+                placed.append(box)
+                written.append(ann)
+                break
+            ann.remove()
+    return written

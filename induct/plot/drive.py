@@ -71,8 +71,9 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
             if line.amplitude_nT[c] > 0.0:
                 ax_s.plot([x, x], [bottom, line.amplitude_nT[c]], color=COLORS[c], lw=1.5)
                 ax_s.plot(x, line.amplitude_nT[c], "o", color=COLORS[c], ms=4)
+        # Upright above the line's own top marker: a horizontal label would cross a neighbour's stem.
         ax_s.annotate(line.label, (line.period_h, float(np.max(line.amplitude_nT))), textcoords="offset points",
-                      xytext=(0, 6 + 10 * (i % 2)), ha="center", fontsize=7)
+                      xytext=(0, 6), ha="center", va="bottom", rotation=90, fontsize=7)
     for c in range(3):
         ax_s.plot([], [], "o-", color=COLORS[c], lw=1.5, ms=4, label=f"|B{'xyz'[c]}|")
     ax_s.set_xscale("log")
@@ -86,7 +87,7 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
         _overlay_internal(ax_t, ax_s, analysis, bottom)
     ax_s.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
     if shown:
-        ax_s.set_ylim(bottom, 8.0 * top)
+        ax_s.set_ylim(bottom, 100.0 * top)  # room for the upright labels above the tallest line
         periods = [ln.period_h for ln in shown]
         ax_s.set_xlim(0.7 * min(periods), 1.4 * max(periods))
     fig.tight_layout(rect=(0, 0.015 * (1 + caption.count("\n")) + 0.015, 1, 1))

@@ -47,18 +47,21 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
         ax1.plot(result.periods_h, result.difference_nT[i], color=colours[i % len(colours)], lw=2.2, label=f"difference {result.pair_label(i)}")
     for p in result.marked_periods_h:
         ax1.axvline(p, color="0.35", lw=0.8, ls=":")
-        ax1.annotate(f"{p:g} h", (p, 1.0), xycoords=("data", "axes fraction"), xytext=(2, -3), textcoords="offset points", rotation=90, va="top", fontsize=7.5, color="0.3")
+        # Named above the top spine, outside the data (labels inside the axes crossed the curves).
+        ax1.annotate(f"{p:g} h", (p, 1.0), xycoords=("data", "axes fraction"), xytext=(0, 3), textcoords="offset points",
+                     rotation=90, ha="center", va="bottom", fontsize=7.5, color="0.3")
     t = result.threshold_nT
     for ax in (ax1, ax2):
         if t is not None:
             ax.axhline(t, color="black", lw=1.2, ls="--", label=f"{result.k:g} x noise = {t:g} nT")
         ax.set_yscale("log")
         plotting.plain_log_ticks(ax.yaxis)
-        ax.set_ylabel("field over the pole (nT)")
+        ax.set_ylabel("field along the driving field (nT)")
     ax1.set_xscale("log")
     plotting.plain_log_ticks(ax1.xaxis)
     ax1.set_xlabel("period (h)")
-    ax1.set_title(f"versus period, {result.altitude_km:g} km altitude", fontsize=10)
+    ax1.set_title(f"versus period, {result.altitude_km:g} km altitude", fontsize=10,
+                  pad=34 if len(result.marked_periods_h) else 6)
     for i in range(len(result.pairs)):
         for q, period in enumerate(result.marked_periods_h):
             ax2.plot(
@@ -69,7 +72,7 @@ def plot_separation(result, path=None, *, formats=("png", "pdf")):
                 lw=1.8,
                 label=f"{result.pair_label(i)}, {period:g} h" if len(result.pairs) > 1 else f"{period:g} h",
             )
-    ax2.set_xlabel("altitude over the pole (km)")
+    ax2.set_xlabel("altitude above the sub-drive point (km)")
     ax2.set_title("difference versus altitude at the marked periods", fontsize=10)
     for ax in (ax1, ax2):
         ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.15), ncol=2, frameon=False)

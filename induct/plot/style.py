@@ -186,7 +186,7 @@ def filled_contours(
     Levels come from :func:`contour_levels` (logarithmic for positive data
     spanning more than two decades). Every second line is labelled when there
     are more than eight levels. NaN cells stay empty. ``bounds = (lo, hi)``
-    keeps the levels inside a physical range (e.g. 0-90 degrees of phase lag),
+    keeps the levels inside a physical range (e.g. 0-90 degrees of phase),
     replacing an outermost level beyond it by the bound itself.
 
     Returns

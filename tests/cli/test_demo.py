@@ -17,7 +17,7 @@ def test_demo_fast_writes_figures_and_report(tmp_path):
     assert {"map_amplitude.nc", "map_amplitude.csv", "flyby_field.csv"} <= names
     text = report.read_text()
     # The report carries the numbers and says what the model leaves out.
-    assert "phase lag (deg)" in text and "95 % range" in text and "plasma interaction" in text
+    assert "phase arg R (deg)" in text and "95 % range" in text and "plasma interaction" in text
     assert [s.argv[0] for s in steps] == ["respond", "drive", "flyby", "map", "map", "diagram", "separate", "invert", "plan"]
 
 

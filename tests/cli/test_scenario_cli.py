@@ -64,7 +64,7 @@ def test_respond_table_and_periods_override(tmp_path, capsys):
     path = write(tmp_path, GOOD)
     assert main(["respond", str(path), "--periods-h", "1", "2", "3"]) == 0
     text = capsys.readouterr().out
-    assert "period (h)" in text and "phase lag (deg)" in text and "skin depth ocean (km)" in text
+    assert "period (h)" in text and "phase arg R (deg)" in text and "skin depth ocean (km)" in text
     assert "plasma interaction" in text  # the model's limits are stated beside the results
     assert text.count("\n   1.0000") + text.count("\n    1.0000") >= 1
 

@@ -2,7 +2,8 @@
 
 Bounds from /work/shared/domain/induction.md: 0 <= A <= (r_top/R)^(2n+1) with r_top the outer radius
 of the outermost conducting layer, and 0 <= phi <= 90 deg with R_n = A exp(i phi) in the exp(+i w t)
-convention (phi is the phase lag behind the perfect-conductor response). The sign convention is pinned
+convention (phi = arg R_n: the induced field leads the perfect-conductor response by phi and lags the
+inducing field by 180 - phi; tests/model/test_phase_convention.py checks this in the time domain). The sign convention is pinned
 by the limits: sigma -> inf gives phi -> 0 and A -> (r_top/R)^(2n+1) (test_kernel_limits.py,
 test_perfect_conductor_core / test_large_conductivity_limit), w -> 0 gives phi -> +90 deg
 (test_low_frequency_born_layered).

@@ -10,6 +10,7 @@ from induct.constants import MODEL_LIMITS
 from induct.io.measurements import load_measurements
 from induct.io.scenario import load_scenario
 from induct.io.tables import write_diagram_csv
+from induct.model.response import phase_lag_deg
 from induct.planning.diagrams import amplitude_phase_diagram, default_families, measured_periods_h
 from induct.planning.maps import parse_axis_spec
 from induct.plot.diagrams import plot_diagram
@@ -20,7 +21,7 @@ def register(subparsers):
         "diagram",
         help="amplitude-phase diagram: curves of constant ice thickness and ocean conductivity, with measurements",
         description=(
-            "For each period, draw where interiors fall in the (phase lag, amplitude) plane: curves of constant "
+            "For each period, draw where interiors fall in the (phase arg R, amplitude) plane: curves of constant "
             "first parameter (default the top layer's thickness) and of constant second parameter (default the "
             "ocean's conductivity), the scenario's own model, and measured responses with 1 and 2 sigma error "
             "ellipses. Writes PREFIX.png, PREFIX.pdf and PREFIX.csv (every curve point)."
@@ -89,7 +90,7 @@ def format_diagram_summary(name: str, result, written=()) -> str:
     lines = [f"{name}: amplitude-phase diagram at {', '.join(f'{p:g}' for p in result.periods_h)} h"]
     lines.append(f"  curves of constant {result.first} and of constant {result.second}")
     for p, r in zip(result.periods_h, result.model_response):
-        lines.append(f"  model at {p:g} h: A = {abs(r):.4f}, phase lag = {np.degrees(np.angle(r)):.2f} deg")
+        lines.append(f"  model at {p:g} h: A = {abs(r):.4f}, phase arg R = {float(phase_lag_deg(r)):.2f} deg")
     lines.extend(f"wrote {path}" for path in written)
     lines.append(MODEL_LIMITS)
     return "\n".join(lines)

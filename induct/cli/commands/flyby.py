@@ -80,7 +80,7 @@ def format_flyby_summary(summary: dict, out, residuals=None, plot=None) -> str:
     lines.append("driving lines and responses R_1 of the interior:")
     for ln in summary["lines"]:
         lines.append(f"  {ln['label'] or '-':<14} {ln['period_h']:>10.5f} h   A = {ln['amplitude']:.4f}, "
-                     f"phase lag {ln['phase_lag_deg']:.2f} deg")
+                     f"phase arg R {ln['phase_lag_deg']:.2f} deg")
     lines.append(f"degree 2: {summary['degree2']}")
     lines.append(f"peak induced field {summary['peak_induced_nT']:.4g} nT at t = {summary['peak_induced_t_s']:.6g} s")
     if "compare" in summary:

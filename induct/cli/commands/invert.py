@@ -8,6 +8,7 @@ from induct.constants import MODEL_LIMITS
 from induct.cli.tables import Column, format_table
 from induct.inversion.grid import GRID_TASK_MODELS
 from induct.cli.commands._cluster import add_cluster_options, backend_for
+from induct.cli.commands._truth import add_truth_option, truth_from_args
 
 
 def register(subparsers):
@@ -32,6 +33,7 @@ def register(subparsers):
     p.add_argument("--seed", type=int, default=0, help="MCMC random seed (default 0)")
     p.add_argument("--list", type=int, default=10, metavar="N", help="2-sigma combinations to print (default 10)")
     p.add_argument("--plot", metavar="FILE", help="write the corner figure to FILE (.png and .pdf)")
+    add_truth_option(p)
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
     add_cluster_options(p, GRID_TASK_MODELS)
@@ -57,6 +59,9 @@ def run(args) -> int:
                 "{ range = [5, 250] }) or give --params FILE"
             )
     params = parse_parameters(table, scenario.model, where)
+    truth = truth_from_args(args, scenario.model, [q.name for q in params])
+    if truth is not None and not args.plot:
+        raise ValueError("--truth marks the corner figure: give --plot FILE too")
     if args.grid is not None and args.grid < 2:
         raise ValueError(f"--grid must be >= 2 points per axis, got {args.grid}")
     if args.list < 0:
@@ -72,7 +77,7 @@ def run(args) -> int:
     if args.plot:
         from induct.plot.corner import save_corner
 
-        written = save_corner(result, args.plot, title=f"{scenario.name} ({data.source})")
+        written = save_corner(result, args.plot, title=f"{scenario.name} ({data.source})", truth=truth)
     if args.json:
         payload = result.to_dict()
         payload["body"] = scenario.name

@@ -8,6 +8,7 @@ import numpy as np
 
 from induct.planning.maps import DEFAULT_TASK_SIZE, QUANTITIES, feasibility_map, parse_axis_spec
 from induct.cli.commands._cluster import add_cluster_options, backend_for
+from induct.cli.commands._truth import add_truth_option, truth_from_args
 from induct.io.measurements import load_measurements
 from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
@@ -18,12 +19,13 @@ SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km or conductivity_S_per
 def register(subparsers):
     p = subparsers.add_parser(
         "map",
-        help="feasibility map: amplitude, phase lag or induced field over a grid of two interior parameters",
+        help="feasibility map: amplitude, phase arg R or induced field over a grid of two interior parameters",
         description=(
             "Vary two interior parameters of a scenario over a grid and map one quantity at one driving period. "
             "Writes PREFIX.png and PREFIX.pdf (filled contours), PREFIX.nc (CF-style NetCDF) and PREFIX.csv "
             "(one row per cell). The nT quantities are the induced field (or its difference from a reference "
-            "interior) over the pole of a uniform driving field."
+            "interior) along the driving field (above the sub-drive point, on the equator for an equatorial drive) "
+            "of a uniform driving field."
         ),
         epilog=MODEL_LIMITS,
     )
@@ -32,7 +34,7 @@ def register(subparsers):
     p.add_argument("--y", required=True, metavar="SPEC", help="vertical axis, same form as --x")
     p.add_argument("--period-h", type=float, metavar="P", help="driving period (h); default: the scenario's first period")
     p.add_argument("--quantity", default="amplitude", choices=list(QUANTITIES), help="mapped quantity (default amplitude)")
-    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude over the pole for the nT quantities (km, default 0)")
+    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude above the sub-drive point (along the driving field) for the nT quantities (km, default 0)")
     p.add_argument("--drive-nT", "--drive-nt", dest="drive_nT", type=float, metavar="NT", help="driving-field amplitude (nT), needed by the nT quantities")
     p.add_argument("--reference", metavar="OTHER.toml", help="reference interior (scenario file or bundled name) for difference_nT")
     p.add_argument("--data", metavar="MEASUREMENTS.toml", help="measured responses ([[response]] tables, or a bundled name such as ilmare_measured): overlay the 1 and 2 sigma regions")
@@ -47,6 +49,7 @@ def register(subparsers):
     p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix: writes PREFIX.png, .pdf, .nc, .csv")
     p.add_argument("--no-netcdf", action="store_true", help="do not write PREFIX.nc (no xarray/h5netcdf needed)")
     p.add_argument("--progress", action="store_true", help="show a progress bar")
+    add_truth_option(p)
     add_cluster_options(p, DEFAULT_TASK_SIZE)
     return p
 
@@ -70,9 +73,11 @@ def run(args) -> int:
         ref_scenario = load_scenario(args.reference)
         reference, label = ref_scenario.model, Path(args.reference).stem
     measurements = load_measurements(args.data) if args.data else None
+    axes = [parse_axis_spec(spec, scenario.model, flag).parameter for spec, flag in ((args.x, "--x"), (args.y, "--y"))]
+    truth = truth_from_args(args, scenario.model, axes, require_all=True)
     with backend_for(args) as backend:
         result = _compute(args, scenario, period, reference, label, measurements, backend)
-    return _write(args, scenario, result)
+    return _write(args, scenario, result, truth)
 
 
 def _compute(args, scenario, period, reference, label, measurements, backend):
@@ -97,13 +102,13 @@ def _compute(args, scenario, period, reference, label, measurements, backend):
     )
 
 
-def _write(args, scenario, result) -> int:
+def _write(args, scenario, result, truth=None) -> int:
     from induct.io.map_files import write_map_files
     from induct.plot.maps import plot_map
 
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)
-    written = plot_map(result, prefix)
+    written = plot_map(result, prefix, truth=truth)
     written += write_map_files(result, prefix, netcdf=not args.no_netcdf)
     print(format_map_summary(scenario.name, result, written))
     return 0

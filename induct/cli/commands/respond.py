@@ -11,15 +11,16 @@ from induct.io.scenario import load_scenario
 from induct.cli.tables import Column, format_table
 from induct.io.files import write_text
 from induct.io.tables import table_csv
+from induct.model.response import PHASE_MEANING
 
 #: The model's limits and the conventions of the printed response.
-LIMITS_NOTE = f"{MODEL_LIMITS} Convention: exp(+i w t), mu = mu0 in every layer."
+LIMITS_NOTE = f"{MODEL_LIMITS} Convention: exp(+i w t), mu = mu0 in every layer; {PHASE_MEANING}."
 
 
 def register(subparsers):
     p = subparsers.add_parser(
         "respond",
-        help="induced-dipole response (amplitude, phase lag) of a scenario's interior",
+        help="induced-dipole response (amplitude, phase arg R) of a scenario's interior",
         description="Print the normalised induction response R_n = A exp(i phi) of a scenario at its driving periods.",
     )
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
@@ -31,12 +32,16 @@ def register(subparsers):
     return p
 
 
-def response_columns(result) -> list[Column]:
-    """Table columns for a ModelResponse: period, A, phase lag, Re, Im, C, skin depths."""
+def response_columns(result, *, csv: bool = False) -> list[Column]:
+    """Table columns for a ModelResponse: period, A, phase arg R, Re, Im, C, skin depths.
+
+    With ``csv`` the phase column keeps its established machine name ``phase_lag_deg``
+    (as in the JSON output and measurement files); the text table says what it is, arg R.
+    """
     cols = [
         Column("period", "h", result.periods_h, ".4f"),
         Column("A", "", result.amplitude, ".6f"),
-        Column("phase lag", "deg", result.phase_lag_deg, ".4f"),
+        Column("phase lag" if csv else "phase arg R", "deg", result.phase_lag_deg, ".4f"),
         Column("Re R", "", result.response.real, ".6f"),
         Column("Im R", "", result.response.imag, ".6f"),
         Column("Re C", "km", result.c_response_km.real, ".2f"),
@@ -66,7 +71,7 @@ def run(args) -> int:
         }
         print(json.dumps(payload, indent=2))
         return 0
-    cols = response_columns(result)
+    cols = response_columns(result, csv=True)
     if args.csv:
         text = table_csv(cols)
         if args.csv == "-":

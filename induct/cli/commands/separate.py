@@ -19,8 +19,8 @@ def register(subparsers):
         "separate",
         help="difference in induced field between candidate interiors versus period and altitude (mission planning)",
         description=(
-            "Compare two or more candidate interiors of one body: the induced field over the pole of a uniform "
-            "driving field and, for every pair, the magnitude of the difference of their induced fields, versus "
+            "Compare two or more candidate interiors of one body: the induced field along the driving field (above "
+            "the sub-drive point, on the equator for an equatorial drive) of a uniform driving field and, for every pair, the magnitude of the difference of their induced fields, versus "
             "period (log axis) and versus altitude. Writes PREFIX.png/.pdf, PREFIX_period.csv, "
             "PREFIX_altitude.csv and PREFIX_summary.csv, and prints the summary table."
         ),
@@ -29,7 +29,7 @@ def register(subparsers):
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
     p.add_argument("--other", nargs="+", required=True, metavar="OTHER.toml", help="further candidate interiors (scenario files or bundled names)")
     p.add_argument("--drive-nT", "--drive-nt", dest="drive_nT", type=float, required=True, metavar="NT", help="driving-field amplitude (nT)")
-    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude over the pole of the period curves (km, default 0)")
+    p.add_argument("--altitude-km", type=float, default=0.0, help="altitude above the sub-drive point of the period curves (km, default 0)")
     p.add_argument("--periods-h", default="0.5:1000:200", metavar="lo:hi:n", help="period grid (h), logarithmic (default 0.5:1000:200)")
     p.add_argument("--mark-periods-h", type=float, nargs="+", metavar="P", help="periods of the altitude curves (default: the scenario's driving periods)")
     p.add_argument("--altitudes-km", default=None, metavar="lo:hi:n", help="altitude grid (km), linear (default 0 to one body radius, 101 values)")
@@ -105,7 +105,7 @@ def separation_columns(result) -> list[Column]:
 
 def format_separation_summary(result, cols, written=()) -> str:
     """The text ``induct separate`` prints: candidates, the summary table, the files and the model's limits."""
-    lines = [f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT over the pole"]
+    lines = [f"{result.body}: candidates {', '.join(result.labels)}; drive {result.drive_nT:g} nT, field along the driving field"]
     lines.append(format_table(cols))
     lines.extend(f"wrote {path}" for path in written)
     lines.append(MODEL_LIMITS)
