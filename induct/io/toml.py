@@ -10,12 +10,14 @@ __all__ = ["read_toml", "read_parameter_table"]
 
 def read_toml(path) -> dict:
     """Parse a TOML file; a syntax error becomes a ValueError naming the file."""
+    from induct.io.files import read_text_file
+
     path = Path(path)
-    with open(path, "rb") as fh:
-        try:
-            return tomllib.load(fh)
-        except tomllib.TOMLDecodeError as exc:
-            raise ValueError(f"{path}: not valid TOML: {exc}") from exc
+    text = read_text_file(path, "TOML file")
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ValueError(f"{path}: not valid TOML: {exc}") from None
 
 
 def read_parameter_table(path) -> dict:

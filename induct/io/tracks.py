@@ -136,16 +136,17 @@ def resolve_track_path(name_or_path) -> Path:
 def _read_rows(path: Path):
     """Header cells, header line number, data lines (text) and their line numbers."""
     header, header_line, rows, lines = None, 0, [], []
-    with open(path, newline="", encoding="utf-8") as handle:
-        for number, text in enumerate(handle, start=1):
-            stripped = text.strip()
-            if not stripped or stripped.startswith("#"):
-                continue
-            if header is None:
-                header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
-                continue
-            rows.append(stripped)
-            lines.append(number)
+    from induct.io.files import read_text_file
+
+    for number, text in enumerate(read_text_file(path, "CSV file").splitlines(), start=1):
+        stripped = text.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        if header is None:
+            header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
+            continue
+        rows.append(stripped)
+        lines.append(number)
     return header, header_line, rows, lines
 
 
@@ -348,7 +349,10 @@ def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
     ([0.0, 60.0], (2, 3))
     """
     rows = []
-    with open(path, newline="", encoding="utf-8") as handle:
+    from induct.io.files import read_text_file
+
+    handle = read_text_file(path, "CSV file").splitlines()
+    if True:
         reader = csv.reader(row for row in handle if row.strip() and not row.lstrip().startswith("#"))
         header = next(reader, None)
         if header is None or [h.strip() for h in header] != SERIES_HEADER:

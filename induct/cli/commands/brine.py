@@ -22,8 +22,6 @@ import csv
 import datetime
 import itertools
 import json
-import os
-import tempfile
 
 import numpy as np
 
@@ -135,28 +133,22 @@ def _print_table(rec, rows):
 
 
 def _write_csv(path, rec, rows):
-    """Write the table to ``path`` (via a temporary file in the same folder, then os.replace)."""
-    folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(prefix=".brine-", suffix=".csv.tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", newline="") as fh:
-            fh.write(f"# induct {__version__} brine; solute={rec.name}; "
-                     f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
-                     f"rows={len(rows)}\n")
-            fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _units(rec).items()) + "\n")
-            w = csv.writer(fh)
-            w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
-                        "freezing_point_C", "extrapolated", "flags", "error"])
-            for r in rows:
-                w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
-                            "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
-                            "" if r["freezing_point_C"] is None else r["freezing_point_C"],
-                            int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    """Write the table to ``path`` (atomically, through :mod:`induct.io.files`)."""
+    from induct.io.files import atomic_open
+
+    with atomic_open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(f"# induct {__version__} brine; solute={rec.name}; "
+                 f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
+                 f"rows={len(rows)}\n")
+        fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _units(rec).items()) + "\n")
+        w = csv.writer(fh)
+        w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
+                    "freezing_point_C", "extrapolated", "flags", "error"])
+        for r in rows:
+            w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
+                        "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
+                        "" if r["freezing_point_C"] is None else r["freezing_point_C"],
+                        int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
 
 
 def run(args):

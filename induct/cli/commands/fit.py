@@ -58,7 +58,7 @@ def _g(value) -> str:
 def run(args) -> int:
     from induct.flyby.magfit import fit_responses
     from induct.io.files import write_text
-    from induct.io.measurements import load_measurements
+    from induct.io.measurements import parse_measurements
     from induct.io.scenario import load_scenario
     from induct.io.tracks import read_residual_tracks
 
@@ -97,8 +97,10 @@ def run(args) -> int:
                     if math.isfinite(fit.condition_number) else "inf", "chi2": float(fit.chi2), "n_data": fit.n_data},
             include_undetermined=args.include_undetermined,
         )
+        import tomllib
+
+        back = parse_measurements(tomllib.loads(text), args.toml)  # what invert will read
         write_text(args.toml, text)
-        back = load_measurements(args.toml)  # what invert will read
         result["toml"] = {"file": args.toml, "entries": back.n_entries}
     if args.json:
         json.dump(result, sys.stdout, indent=2)
