@@ -178,8 +178,11 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):
 def _run(args, name: str) -> int:
     from induct.io.files import output_set
 
-    with warnings.catch_warnings():
-        warnings.showwarning = _show_warning
+    import numpy as np
+
+    with warnings.catch_warnings(), np.printoptions(legacy="1.25"):  # numbers in messages print plainly
+        if getattr(warnings._showwarnmsg_impl, "__module__", None) == "warnings":  # not while recorded (tests)
+            warnings.showwarning = _show_warning
         warnings.filterwarnings("error", category=RuntimeWarning, message=r".*encountered in")
         with output_set() as outputs:
             outputs.protect(*input_paths(args))

@@ -125,8 +125,8 @@ def read_candidates(path, *, frame: str = "flow") -> list[Candidate]:
         if bad.any():
             k = int(np.argmax(bad)) + 1
             i, prev = int(idx[k]), int(idx[k - 1])
-            raise ValueError(f"{source}: row {i + 1}, line {numbers[i]}, column t_s: t_s = {t[k]!r} of candidate {name!r} does "
-                             f"not follow its previous row's {t[k - 1]!r} (row {prev + 1}); times must increase strictly")
+            raise ValueError(f"{source}: row {i + 1}, line {numbers[i]}, column t_s: t_s = {float(t[k])!r} of candidate {name!r} does "
+                             f"not follow its previous row's {float(t[k - 1])!r} (row {prev + 1}); times must increase strictly")
         pos = to_flow_frame(values[idx, 1:], frame)
         out.append(Candidate(name, t, pos, {"source": source}))
     return out

@@ -595,7 +595,7 @@ def write_prediction_cdf(
         raise ValueError("times_s must be finite")
     if np.any(np.diff(t) <= 0.0):
         i = int(np.argmax(np.diff(t) <= 0.0)) + 1
-        raise ValueError(f"times_s[{i}] = {t[i]!r} does not increase from times_s[{i - 1}] = {t[i - 1]!r}")
+        raise ValueError(f"times_s[{i}] = {float(t[i])!r} does not increase from times_s[{i - 1}] = {float(t[i - 1])!r}")
     if epoch_utc is not None:
         # Elapsed TT from the epoch's exact TT2000 count keeps whole-second epochs exact to the ns.
         tdb0 = timescales.utc_to_tdb(epoch_utc, constants=constants)

@@ -243,7 +243,7 @@ def read_text_file(path, what: str = "file") -> str:
     try:
         data = path.read_bytes()
     except FileNotFoundError:
-        raise FileNotFoundError(f"{what} {str(path)!r} not found") from None
+        raise FileNotFoundError(f"{path}: No such file ({what} not found)") from None
     except OSError as exc:
         raise ValueError(f"{path}: cannot read this {what} ({exc.strerror or exc})") from None
     return decode_text(data, path, what)

@@ -26,4 +26,12 @@ def read_parameter_table(path) -> dict:
     if not path.is_file():
         raise FileNotFoundError(f"parameter file {str(path)!r} not found")
     doc = read_toml(path)
-    return doc.get("invert", doc)
+    if "invert" not in doc:
+        return doc
+    extra = sorted(set(doc) - {"invert"})
+    if extra:
+        raise ValueError(f"{path}: unknown top-level key(s) {', '.join(map(repr, extra))} beside [invert]; "
+                         "a parameter file holds only the [invert] table (or only its entries)")
+    if not isinstance(doc["invert"], dict):
+        raise ValueError(f"{path}: invert must be a table [invert]")
+    return doc["invert"]
