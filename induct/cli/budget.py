@@ -21,7 +21,7 @@ import sys
 
 __all__ = [
     "JobTooLarge", "available_memory_bytes", "memory_limit_bytes", "parse_size", "format_bytes",
-    "format_seconds", "check_job", "check_count", "add_budget_options", "model_seconds",
+    "format_seconds", "check_job", "csv_rows_estimate", "check_count", "add_budget_options", "model_seconds",
     "LAYER_MODEL_PERIODS_PER_S", "FALLBACK_LIMIT_BYTES",
 ]
 
@@ -175,6 +175,22 @@ def check_job(args, what: str, nbytes: float, seconds: float | None = None) -> N
     if seconds is not None and seconds > LONG_RUN_S and not getattr(args, "quiet", False):
         print(f"induct: {what}: estimated {format_seconds(seconds)} (nominal rate; about "
               f"{format_bytes(nbytes)} of memory); Ctrl-C stops it cleanly", file=sys.stderr)
+
+
+def csv_rows_estimate(paths, bytes_per_row: float = 25.0) -> tuple[float, float]:
+    """(rows, bytes) of CSV files estimated from their sizes (short rows assumed, so rows are not underestimated).
+
+    Names that are not files (bundled names) count as small.
+    """
+    import os
+
+    size = 0.0
+    for p in paths if isinstance(paths, (list, tuple)) else [paths]:
+        try:
+            size += os.path.getsize(p)
+        except (OSError, TypeError):
+            pass
+    return size / bytes_per_row, size
 
 
 def add_budget_options(parser) -> None:

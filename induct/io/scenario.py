@@ -84,10 +84,12 @@ def _check_types(table: dict, where: str) -> None:
             if isinstance(value, bool) or not isinstance(value, (int, float)):
                 raise ValueError(f"{where}: {key} must be a number (not {_kind_name(value)}), got {_show(value)}")
             if value != value:
-                raise ValueError(f"{where}: {key} must not be NaN")
+                raise ValueError(f"{where}: {key} is NaN")
             if key == "conductivity_S_per_m":
-                if not (0 <= value <= CONDUCTIVITY_MAX_S_PER_M or value == float("inf")):
-                    raise ValueError(f"{where}: {key} must be between 0 and {CONDUCTIVITY_MAX_S_PER_M:g} S/m "
+                if value < 0:
+                    raise ValueError(f"{where}: {key} must be >= 0 S/m, got {value:g}")
+                if not (value <= CONDUCTIVITY_MAX_S_PER_M or value == float("inf")):
+                    raise ValueError(f"{where}: {key} must be at most {CONDUCTIVITY_MAX_S_PER_M:g} S/m "
                                      f"(or inf, a perfect conductor, in the innermost layer), got {value:g}")
             elif key.endswith("_km") and not abs(value) <= LENGTH_MAX_KM:
                 raise ValueError(f"{where}: {key} must be at most {LENGTH_MAX_KM:g} km, got {value:g}")
@@ -235,6 +237,8 @@ def check_periods_h(periods, what: str) -> np.ndarray:
     for p in periods:
         if isinstance(p, bool) or not isinstance(p, (int, float, np.integer, np.floating)):
             raise ValueError(f"{what} must hold numbers (hours), got {_show(p)}")
+        if not p > 0:
+            raise ValueError(f"{what} must be > 0 h, got {float(p):g}")
         if not lo <= p <= hi:
             raise ValueError(f"{what} must be between {lo:g} and {hi:g} h, got {float(p):g}")
     return np.array(periods, dtype=float)

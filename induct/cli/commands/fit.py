@@ -66,8 +66,13 @@ def run(args) -> int:
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
     if args.include_undetermined and not args.toml:
         raise ValueError("--include-undetermined needs --toml")
+    from induct.cli.budget import check_job, csv_rows_estimate
+
     scenario = load_scenario(args.scenario)
     lines = scenario.drive_lines
+    rows, size = csv_rows_estimate(list(args.data))
+    # file text, parsed rows, and the design matrix (3 rows per point x 2 columns per line, 3 copies in the solve)
+    check_job(args, f"response fit to about {rows:.3g} residual rows", 2 * size + rows * (500.0 + 3 * 2 * 8.0 * 3 * max(len(lines), 1)))
     if not lines:
         raise ValueError(
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "

@@ -109,6 +109,12 @@ def run(args) -> int:
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
     if args.moon and not args.planet:
         raise ValueError("--moon needs --planet")
+    from induct.cli.budget import check_job, csv_rows_estimate
+
+    rows, size = csv_rows_estimate(args.trajectory)
+    per_row = 700.0 * (2 if args.compare else 1) + (200.0 if args.residuals else 0.0)
+    # the file's text (2 bytes per byte as str) and, per row: parsed values, fields, CSV output text
+    check_job(args, f"flyby along about {rows:.3g} track rows", 2 * size + rows * per_row, seconds=rows / 2e5)
     prediction = predict(args)
     summary = prediction.to_dict(output=args.out)
     write_flyby_fields(args.out, prediction, compare_label=args.compare)
