@@ -163,14 +163,15 @@ def check_job(args, what: str, nbytes: float, seconds: float | None = None) -> N
     ...     check_job(None, "a huge job", 1e30)
     ... except JobTooLarge as exc:
     ...     print(str(exc).split(";")[0])
-    a huge job needs about 8.27e+17 PB
+    a huge job needs about 8.88e+14 PB
     """
     limit = memory_limit_bytes(args)
+    source = "--max-memory" if getattr(args, "max_memory", None) is not None else "80 % of the available memory"
     when = f", about {format_seconds(seconds)}" if seconds is not None and seconds >= 1 else ""
     if not math.isfinite(nbytes) or nbytes > limit:
         raise JobTooLarge(
-            f"{what} needs about {format_bytes(nbytes)}{when}; the limit is {format_bytes(limit)} "
-            "(80 % of the available memory): make the job smaller, or raise the limit with --max-memory SIZE"
+            f"{what} needs about {format_bytes(nbytes)}{when}; the limit is {format_bytes(limit)} ({source}): "
+            "make the job smaller, or raise the limit with --max-memory SIZE"
         )
     if seconds is not None and seconds > LONG_RUN_S and not getattr(args, "quiet", False):
         print(f"induct: {what}: estimated {format_seconds(seconds)} (nominal rate; about "
