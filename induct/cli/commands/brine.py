@@ -204,4 +204,10 @@ def run(args):
         print(json.dumps({"solute": solute, "units": _units(rec), "rows": rows}, indent=2))
     else:
         _print_table(rec, rows)
-    return 0 if any(r["valid"] for r in rows) else 2
+    if not any(r["valid"] for r in rows):
+        import sys
+
+        print(f"induct brine: error: no valid row in the table (first: {' '.join(rows[0]['error'].split())})",
+              file=sys.stderr)
+        return 2
+    return 0
