@@ -395,3 +395,56 @@ def test_internal_errors_are_one_line(work, capsys, monkeypatch):
     monkeypatch.setattr(respond, "load_scenario", lambda name: 1 / 0)
     code, _, err = _run(["respond", "ilmare"], capsys)
     assert code == 1 and _one_line(err) and "internal error: ZeroDivisionError" in err
+
+
+# --------------------------------------------------------------------------- item 2: flyby streams long tracks
+def test_streamed_flyby_equals_the_whole_track(work, capsys, monkeypatch):
+    """The streamed path (pieces of 700 rows) writes the same rows, residuals and summary as the in-memory path.
+
+    The residual noise continues from piece to piece: numpy's Generator draws normals sequentially, so the
+    pieces concatenate to one draw (numpy.random.Generator documentation; checked here).
+    """
+    import json
+
+    import induct.cli.commands.flyby as flyby
+
+    argv = ["flyby", "ilmare", "--trajectory", "t.csv", "--compare", "ilmare_thick", "--noise-nT", "0.5",
+            "--residuals", "{d}/r.csv", "--out", "{d}/f.csv", "--json", "--quiet"]
+    code, out, err = _run([a.format(d="whole") for a in argv], capsys)
+    assert code == 0, err
+    whole = json.loads(out)
+    monkeypatch.setattr(flyby, "STREAM_ROWS", 0)
+    monkeypatch.setattr(flyby, "CHUNK_ROWS", 700)
+    code, out, err = _run([a.format(d="streamed") for a in argv], capsys)
+    assert code == 0, err
+    streamed = json.loads(out)
+
+    def rows(path):
+        return [ln for ln in path.read_text().splitlines() if not ln.startswith("#")]
+
+    for name in ("f.csv", "r.csv"):
+        assert rows(work / "whole" / name) == rows(work / "streamed" / name), name
+    for key in ("points", "time_span_s", "closest_approach", "peak_induced_nT", "peak_induced_t_s"):
+        assert streamed[key] == whole[key], key
+    for key in ("peak_difference_nT", "peak_snr"):
+        assert streamed["compare"][key] == whole["compare"][key], key
+    for key in ("rms_difference_nT", "track_snr"):  # sums in another order: round-off only
+        assert abs(streamed["compare"][key] - whole["compare"][key]) <= 1e-12 * whole["compare"][key], key
+
+
+@pytest.mark.parametrize(
+    "body, words",
+    [
+        ("0,2000,0,0\n1,2000,1,0\n1,2000,2,0\n", "times must increase strictly"),  # repeat across pieces
+        ("0,2000,0,0\n", "needs at least 2 data rows"),
+        ("0,2000,0,0\n1,2000,x,0\n", "not a number"),
+    ],
+)
+def test_streamed_track_checks(work, capsys, monkeypatch, body, words):
+    import induct.cli.commands.flyby as flyby
+
+    monkeypatch.setattr(flyby, "STREAM_ROWS", 0)
+    monkeypatch.setattr(flyby, "CHUNK_ROWS", 2)
+    (work / "s.csv").write_text("t_s,x_km,y_km,z_km\n" + body)
+    code, _, err = _run(["flyby", "ilmare", "--trajectory", "s.csv", "--out", "o.csv"], capsys)
+    assert code == 2 and _one_line(err) and words in err and not (work / "o.csv").exists(), err
