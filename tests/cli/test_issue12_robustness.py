@@ -225,8 +225,8 @@ def test_two_sigma_candidates_stay_bounded(monkeypatch):
 
 
 def test_progress_is_shown_by_default_and_quiet_hides_it(work, capsys):
-    argv = ["map", "ilmare", "--x", "ocean.thickness_km=10:100:30", "--y", "ice shell.thickness_km=5:50:30",
-            "--out", "p/p", "--no-netcdf", "--task-size", "100"]
+    argv = ["map", "ilmare", "--x", "ocean.thickness_km=10:100:8", "--y", "ice shell.thickness_km=5:50:8",
+            "--out", "p/p", "--no-netcdf", "--task-size", "16"]
     code, _, err = _run(argv, capsys)
     assert code == 0 and "chunk" in err, err
     code, _, err = _run(argv + ["--quiet"], capsys)
