@@ -192,7 +192,7 @@ def write_flyby_stream(path, predictions, *, compare_label: str | None = None, r
     """
     import contextlib
 
-    from induct.flyby.prediction import FlybySummary, _noise
+    from induct.flyby.prediction import FlybySummary
     from induct.io.tracks import csv_appender, from_flow_frame
 
     summary = FlybySummary()
@@ -205,9 +205,8 @@ def write_flyby_stream(path, predictions, *, compare_label: str | None = None, r
                                                                                             "rows streamed")))
                 if residuals is not None:
                     res_path, noise_nT, seed = residuals
-                    noise_nT = _noise(noise_nT)
-                    if noise_nT is None:
-                        raise ValueError("noise_nT (> 0 nT) is needed for synthetic residuals")
+                    if not (isinstance(noise_nT, (int, float)) and 0 < noise_nT < float("inf")):
+                        raise ValueError(f"noise_nT must be > 0 nT and finite for synthetic residuals, got {noise_nT}")
                     rng = np.random.default_rng(seed)
                     res_append = stack.enter_context(csv_appender(
                         res_path, ["t_s", "x_km", "y_km", "z_km", "bx_nT", "by_nT", "bz_nT"],
