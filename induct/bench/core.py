@@ -315,7 +315,9 @@ def run_map_benchmark(size: int = 400, repeat: int = 3, quantity: str = "amplitu
         from induct.io.map_files import write_map_csv, write_map_netcdf
         from induct.plot.maps import plot_map
 
-        with tempfile.TemporaryDirectory() as tmp:
+        from induct.io.files import output_set
+
+        with tempfile.TemporaryDirectory() as tmp, output_set():  # its own set: committed before tmp goes
             prefix = Path(tmp) / "map"
             t0 = time.perf_counter()
             plot_map(result, prefix)

@@ -27,7 +27,7 @@ def _finite(name, value):
     arr = np.asarray(value, dtype=float)
     bad = ~np.isfinite(arr)
     if np.any(bad):
-        raise ValueError(f"{name} must be finite; got {arr[bad].ravel()[0]!r}")
+        raise ValueError(f"{name} must be finite; got {float(arr[bad].ravel()[0])!r}")
     return arr
 
 

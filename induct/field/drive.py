@@ -240,7 +240,7 @@ def parse_drive_lines(table: dict) -> list[DriveLine]:
         amp = _vector3(entry["amplitude_nT"], f"{where}.amplitude_nT")
         for c in range(3):
             if amp[c] < 0.0:
-                raise ValueError(f"{where}.amplitude_nT[{c}] must be >= 0 (put the sign in phase_deg), got {amp[c]!r}")
+                raise ValueError(f"{where}.amplitude_nT[{c}] must be >= 0 (put the sign in phase_deg), got {float(amp[c])!r}")
         phase = _vector3(entry["phase_deg"], f"{where}.phase_deg")
         label = entry.get("label", "")
         if not isinstance(label, str):

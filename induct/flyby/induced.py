@@ -345,11 +345,11 @@ def check_positions_times(positions_km, times_s, radius_km: float | None = None,
     bad = ~np.isfinite(pos)
     if bad.any():
         i, c = np.argwhere(bad)[0]
-        raise ValueError(f"{what}[{i}, {c}] ({'xyz'[c]}_km) must be finite, got {pos[i, c]!r}")
+        raise ValueError(f"{what}[{i}, {c}] ({'xyz'[c]}_km) must be finite, got {float(pos[i, c])!r}")
     bad_t = ~np.isfinite(t)
     if bad_t.any():
         i = int(np.argmax(bad_t))
-        raise ValueError(f"times_s[{i}] must be finite, got {t[i]!r}")
+        raise ValueError(f"times_s[{i}] must be finite, got {float(t[i])!r}")
     if radius_km is not None:
         r = np.linalg.norm(pos, axis=1)
         inside = r < radius_km * (1.0 - 1e-12)

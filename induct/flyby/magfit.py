@@ -318,8 +318,8 @@ class ResponseFit:
             out.append(f"period_h = {p.period_h!r}")
             if p.label:
                 out.append(f"label = {json.dumps(p.label)}")
-            out.append(f"real = {d['real']!r}")
-            out.append(f"imag = {d['imag']!r}")
+            out.append(f"real = {float(d['real'])!r}")
+            out.append(f"imag = {float(d['imag'])!r}")
             out.append(f"cov = [[{float(c[0, 0])!r}, {float(c[0, 1])!r}], [{float(c[0, 1])!r}, {float(c[1, 1])!r}]]")
             for key in ("amplitude", "amplitude_sigma", "phase_lag_deg", "phase_lag_sigma_deg"):
                 if d[key] is not None:
@@ -399,7 +399,7 @@ def fit_responses(
     bad = ~np.isfinite(res)
     if bad.any():
         i, c = np.argwhere(bad)[0]
-        raise ValueError(f"residuals_nT[{i}, {c}] must be finite, got {res[i, c]!r}")
+        raise ValueError(f"residuals_nT[{i}, {c}] must be finite, got {float(res[i, c])!r}")
     if not (math.isfinite(noise_nT) and noise_nT > 0.0):
         raise ValueError(f"noise_nT must be finite and > 0, got {noise_nT!r}")
     if not (math.isfinite(max_condition) and max_condition > 1.0):

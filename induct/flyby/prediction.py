@@ -32,7 +32,7 @@ from induct.constants import MODEL_LIMITS
 from induct.model.response import phase_lag_deg
 
 __all__ = ["FLYBY_LIMITS", "SNR_DEFINITIONS", "FlybyComparison", "FlybyPrediction", "predict_flyby",
-           "synthetic_residuals", "degree2_consistency_notes"]
+           "synthetic_residuals", "degree2_consistency_notes", "FlybySummary"]
 
 #: What a flyby prediction leaves out: the model's limits and what the primary field means.
 FLYBY_LIMITS = (
@@ -400,3 +400,71 @@ def synthetic_residuals(prediction: FlybyPrediction, noise_nT: float, seed: int 
     rng = np.random.default_rng(seed)
     induced = prediction.induced_nT
     return from_flow_frame(induced, prediction.track.frame) + rng.normal(0.0, noise_nT, induced.shape)
+
+
+class FlybySummary:
+    """The summary of a flyby predicted piece by piece (a long track streamed in chunks).
+
+    Feed it each piece's :class:`FlybyPrediction` with :meth:`add`; :meth:`to_dict` gives what
+    :meth:`FlybyPrediction.to_dict` gives for the whole track: closest approach, peak induced field and,
+    with a comparison, the peak and RMS difference and the SNRs (sums over all pieces).
+
+    Examples
+    --------
+    >>> from induct import load_scenario
+    >>> from induct.io.tracks import iter_track_chunks, read_track
+    >>> sc = load_scenario("ilmare")
+    >>> summary = FlybySummary()
+    >>> for piece in iter_track_chunks("ilmare_flyby", chunk_rows=1000):
+    ...     summary.add(predict_flyby(sc, piece))
+    >>> whole = predict_flyby(sc, read_track("ilmare_flyby")).to_dict()
+    >>> summary.to_dict()["peak_induced_nT"] == whole["peak_induced_nT"], summary.to_dict()["points"]
+    (True, 3601)
+    """
+
+    def __init__(self):
+        self.first = None
+        self.points = 0
+        self.t_end = None
+        self.ca = (np.inf, np.nan)          # (altitude, t)
+        self.peak = (-np.inf, np.nan)       # (|B_ind|, t)
+        self.diff_peak = (-np.inf, np.nan)  # (|dB|, t)
+        self.diff_sum_sq = 0.0
+
+    def add(self, prediction: FlybyPrediction) -> None:
+        """Fold one piece into the summary."""
+        if self.first is None:
+            self.first = prediction
+        t = prediction.track.times_s
+        self.points += int(t.size)
+        self.t_end = float(t[-1])
+        t_ca, alt = prediction.closest_approach
+        if alt < self.ca[0]:
+            self.ca = (alt, t_ca)
+        peak, t_peak = prediction.peak_induced
+        if peak > self.peak[0]:
+            self.peak = (peak, t_peak)
+        c = prediction.comparison
+        if c is not None:
+            if c.peak_difference_nT > self.diff_peak[0]:
+                self.diff_peak = (c.peak_difference_nT, c.peak_difference_t_s)
+            self.diff_sum_sq += float(np.sum(c.difference_nT**2))
+
+    def to_dict(self, output: str | None = None) -> dict:
+        """JSON-ready summary of the whole track (as :meth:`FlybyPrediction.to_dict`)."""
+        if self.first is None:
+            raise ValueError("no track rows were predicted")
+        out = self.first.to_dict(output=output)
+        out["points"] = self.points
+        out["time_span_s"] = [out["time_span_s"][0], self.t_end]
+        out["closest_approach"] = {"t_s": float(self.ca[1]), "altitude_km": float(self.ca[0])}
+        out["peak_induced_nT"], out["peak_induced_t_s"] = float(self.peak[0]), float(self.peak[1])
+        if "compare" in out:
+            c = out["compare"]
+            c["peak_difference_nT"], c["peak_difference_t_s"] = float(self.diff_peak[0]), float(self.diff_peak[1])
+            c["rms_difference_nT"] = float(np.sqrt(self.diff_sum_sq / self.points))
+            noise = c.get("noise_nT")
+            if noise:
+                c["peak_snr"] = float(self.diff_peak[0] / noise)
+                c["track_snr"] = float(np.sqrt(self.diff_sum_sq) / noise)
+        return out

@@ -172,6 +172,29 @@ class GridPartial:
     listed_index: np.ndarray
     delta_chi2: float
     cap: int
+    n_within_sure: int = 0
+    n_within_dropped: int = 0
+
+
+#: Largest number of chi-square values kept for the exact 2-sigma count (16 MB); see :func:`_bound_within`.
+WITHIN_CAP = 2_000_000
+
+
+def _bound_within(within: np.ndarray, delta_chi2: float, sure: int, dropped: int):
+    """Keep the 2-sigma candidates bounded: values <= delta_chi2 only counted, at most WITHIN_CAP others kept.
+
+    chi2 >= 0, so the final chi2_min >= 0 and every value <= delta_chi2 is inside the 2-sigma set whatever
+    the other tasks find: those are counted, not kept. Of the others only the WITHIN_CAP smallest are kept;
+    the number dropped makes the final count a lower bound (said in the result's notes).
+    """
+    certain = within <= delta_chi2
+    if certain.any():
+        sure += int(certain.sum())
+        within = within[~certain]
+    if within.size > WITHIN_CAP:
+        dropped += within.size - WITHIN_CAP
+        within = np.partition(within, WITHIN_CAP - 1)[:WITHIN_CAP]
+    return within, sure, dropped
 
 
 class GridTask:
@@ -229,10 +252,11 @@ def _partial(s: GridSetup, start: int, index: tuple, chi2: np.ndarray) -> GridPa
     if inside.size > s.cap:
         listed = inside[np.argpartition(c[inside], s.cap - 1)[: s.cap]] if s.cap > 0 else inside[:0]
     listed = listed[np.lexsort((listed, c[listed]))]
+    within, sure, dropped = _bound_within(c[inside], s.delta_chi2, 0, 0)
     return GridPartial(
         ref=ref, best_index=start + best, marginals=marginals, maps=maps, n_valid=n_valid, n_cells=int(chi2.size),
-        within=c[inside], listed_chi2=c[listed], listed_index=(start + listed).astype(np.int64),
-        delta_chi2=s.delta_chi2, cap=s.cap,
+        within=within, listed_chi2=c[listed], listed_index=(start + listed).astype(np.int64),
+        delta_chi2=s.delta_chi2, cap=s.cap, n_within_sure=sure, n_within_dropped=dropped,
     )
 
 
@@ -245,7 +269,10 @@ def combine_partials(a: GridPartial, b: GridPartial) -> GridPartial:
     marginals = [x + scale * y for x, y in zip(a.marginals, b.marginals)]
     maps = {key: a.maps[key] + scale * b.maps[key] for key in a.maps}
     limit = ref + a.delta_chi2
-    within = np.concatenate([a.within, b.within[b.within <= limit]])
+    within, sure, dropped = _bound_within(
+        np.concatenate([a.within, b.within[b.within <= limit]]), a.delta_chi2,
+        a.n_within_sure + b.n_within_sure, a.n_within_dropped + b.n_within_dropped,
+    )
     chi2 = np.concatenate([a.listed_chi2, b.listed_chi2])
     idx = np.concatenate([a.listed_index, b.listed_index])
     keep = chi2 <= limit
@@ -254,7 +281,7 @@ def combine_partials(a: GridPartial, b: GridPartial) -> GridPartial:
     return GridPartial(
         ref=ref, best_index=a.best_index, marginals=marginals, maps=maps, n_valid=a.n_valid + b.n_valid,
         n_cells=a.n_cells + b.n_cells, within=within, listed_chi2=chi2[order], listed_index=idx[order],
-        delta_chi2=a.delta_chi2, cap=a.cap,
+        delta_chi2=a.delta_chi2, cap=a.cap, n_within_sure=sure, n_within_dropped=dropped,
     )
 
 
@@ -365,7 +392,12 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         row = {p.name: float(m[i]) for p, m, i in zip(params, mids, multi)}
         row["chi2"] = float(c)
         rows.append(row)
-    two = TwoSigmaSet(setup.delta_chi2, int(np.count_nonzero(part.within <= part.ref + setup.delta_chi2)), rows)
+    count = part.n_within_sure + int(np.count_nonzero(part.within <= part.ref + setup.delta_chi2))
+    two = TwoSigmaSet(setup.delta_chi2, count, rows)
+    notes = resolution_notes(params, ranges, setup.points)
+    if part.n_within_dropped:
+        notes = list(notes) + [f"the 2-sigma count is a lower bound: {part.n_within_dropped:,d} candidate cells above "
+                               f"the {WITHIN_CAP:,d} kept were not re-checked (memory bound)"]
     return PosteriorResult(
         method="grid",
         parameters=list(params),
@@ -381,7 +413,7 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         correlation=corr,
         two_sigma=two,
         tradeoffs=find_tradeoffs(params, ranges, corr, best, setup.points),
-        notes=resolution_notes(params, ranges, setup.points),
+        notes=notes,
         grid_points=setup.points,
     )
 

@@ -37,7 +37,11 @@ def resolve_bundled(name_or_path, suffix: str, what: str, keep=None) -> Path:
 
 
 def _is_scenario(path) -> bool:
-    return any(line.strip() == "[body]" for line in path.read_text().splitlines())
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError):
+        return False
+    return any(line.strip() == "[body]" for line in text.splitlines())
 
 
 def bundled_scenarios() -> dict[str, Path]:

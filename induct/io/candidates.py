@@ -7,8 +7,6 @@ from __future__ import annotations
 
 import csv
 import math
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -24,17 +22,18 @@ CANDIDATE_COLUMNS = ("candidate", "t_s", "x_km", "y_km", "z_km")
 
 def _file_rows(path: Path):
     header, header_line, rows, numbers = None, 0, [], []
-    with open(path, newline="", encoding="utf-8") as handle:
-        for number, text in enumerate(handle, start=1):
-            stripped = text.strip()
-            if not stripped or stripped.startswith("#"):
-                continue
-            cells = next(csv.reader([stripped]))
-            if header is None:
-                header, header_line = [c.strip() for c in cells], number
-                continue
-            rows.append(cells)
-            numbers.append(number)
+    from induct.io.files import read_text_file
+
+    for number, text in enumerate(read_text_file(path, "CSV file").splitlines(), start=1):
+        stripped = text.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        cells = next(csv.reader([stripped]))
+        if header is None:
+            header, header_line = [c.strip() for c in cells], number
+            continue
+        rows.append(cells)
+        numbers.append(number)
     return header, header_line, rows, numbers
 
 
@@ -126,8 +125,8 @@ def read_candidates(path, *, frame: str = "flow") -> list[Candidate]:
         if bad.any():
             k = int(np.argmax(bad)) + 1
             i, prev = int(idx[k]), int(idx[k - 1])
-            raise ValueError(f"{source}: row {i + 1}, line {numbers[i]}, column t_s: t_s = {t[k]!r} of candidate {name!r} does "
-                             f"not follow its previous row's {t[k - 1]!r} (row {prev + 1}); times must increase strictly")
+            raise ValueError(f"{source}: row {i + 1}, line {numbers[i]}, column t_s: t_s = {float(t[k])!r} of candidate {name!r} does "
+                             f"not follow its previous row's {float(t[k - 1])!r} (row {prev + 1}); times must increase strictly")
         pos = to_flow_frame(values[idx, 1:], frame)
         out.append(Candidate(name, t, pos, {"source": source}))
     return out
@@ -139,7 +138,7 @@ def write_candidates(path, candidates, comments=()) -> None:
     Parameters
     ----------
     path : str or Path
-        Output file; its folder must exist.
+        Output file; missing folders are created.
     candidates : sequence of Candidate
     comments : sequence of str
         One ``# ...`` line each, written first.
@@ -154,25 +153,20 @@ def write_candidates(path, candidates, comments=()) -> None:
     ...     [x.name for x in read_candidates(p)]
     ['A']
     """
+    from induct.io.files import atomic_open
+
     path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            for text in comments:
-                handle.write("# " + " ".join(str(text).split()) + "\n")
-            handle.write(",".join(CANDIDATE_COLUMNS) + "\n")
-            for c in candidates:
-                name = str(c.name)
-                if any(ch in name for ch in ',"\n\r#'):
-                    raise ValueError(f"candidate id {name!r} cannot be written: no commas, quotes, newlines or '#'")
-                block = np.column_stack([c.times_s, c.positions_km])
-                for row in block:
-                    handle.write(name + "," + ",".join(f"{v:.12g}" for v in row) + "\n")
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
+        for text in comments:
+            handle.write("# " + " ".join(str(text).split()) + "\n")
+        handle.write(",".join(CANDIDATE_COLUMNS) + "\n")
+        for c in candidates:
+            name = str(c.name)
+            if any(ch in name for ch in ',"\n\r#'):
+                raise ValueError(f"candidate id {name!r} cannot be written: no commas, quotes, newlines or '#'")
+            block = np.column_stack([c.times_s, c.positions_km])
+            for row in block:
+                handle.write(name + "," + ",".join(f"{v:.12g}" for v in row) + "\n")
 
 
 # --------------------------------------------------------------------------- geometry

@@ -37,9 +37,7 @@ cdflib (Space Physics Data Facility, pure Python) is imported only inside the fu
 from __future__ import annotations
 
 import datetime as _dt
-import os
 import re
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -597,7 +595,7 @@ def write_prediction_cdf(
         raise ValueError("times_s must be finite")
     if np.any(np.diff(t) <= 0.0):
         i = int(np.argmax(np.diff(t) <= 0.0)) + 1
-        raise ValueError(f"times_s[{i}] = {t[i]!r} does not increase from times_s[{i - 1}] = {t[i - 1]!r}")
+        raise ValueError(f"times_s[{i}] = {float(t[i])!r} does not increase from times_s[{i - 1}] = {float(t[i - 1])!r}")
     if epoch_utc is not None:
         # Elapsed TT from the epoch's exact TT2000 count keeps whole-second epochs exact to the ns.
         tdb0 = timescales.utc_to_tdb(epoch_utc, constants=constants)
@@ -669,12 +667,10 @@ def write_prediction_cdf(
     def label_spec(name, width):
         return {"Variable": name, "Data_Type": 51, "Num_Elements": width, "Rec_Vary": False, "Dim_Sizes": [3]}
 
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=".cdf", dir=folder)
-    os.close(fd)
-    os.remove(tmp)  # cdflib refuses to write over an existing file
-    try:
-        out = cdflib.cdfwrite.CDF(tmp)
+    from induct.io.files import atomic_path
+
+    with atomic_path(path, suffix=".cdf") as tmp:  # not created: cdflib refuses to write over a file
+        out = cdflib.cdfwrite.CDF(str(tmp))
         try:
             out.write_globalattrs(globals_)
             lo, hi = int(epochs.min()), int(epochs.max())
@@ -721,7 +717,3 @@ def write_prediction_cdf(
                 )
         finally:
             out.close()
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)

@@ -6,12 +6,12 @@ Formats: see :mod:`induct.field.drive`.
 from __future__ import annotations
 
 import json
-import os
 import re
 import tomllib
 from pathlib import Path
 
 from induct.field.drive import PlanetSystem, parse_drive_lines, parse_planet_table
+from induct.io.files import read_text_file
 from induct.io.toml import read_toml
 
 __all__ = ["drive_lines_to_toml", "write_drive_lines", "read_planet_file"]
@@ -79,7 +79,7 @@ def write_drive_lines(path, lines, *, append: bool = False, comment: str = "") -
     lines = list(lines)
     if not lines:
         raise ValueError("no driving lines to write")
-    text = path.read_text(encoding="utf-8") if path.exists() else ""
+    text = read_text_file(path) if path.exists() else ""
     try:
         old = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -108,9 +108,9 @@ def write_drive_lines(path, lines, *, append: bool = False, comment: str = "") -
     if _without_drive_lines(new) != _without_drive_lines(old) or got != expected:
         raise ValueError(f"{path}: could not edit the [[drive.lines]] tables safely; edit the file by hand")
     parse_drive_lines(new["drive"])  # duplicates or bad old entries surface here, before writing
-    tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(new_text, encoding="utf-8")
-    os.replace(tmp, path)
+    from induct.io.files import write_text
+
+    write_text(path, new_text)
 
 
 def read_planet_file(path) -> PlanetSystem:

@@ -12,7 +12,7 @@ import numpy as np
 
 from induct import __version__
 
-__all__ = ["flyby_field_columns", "write_flyby_fields", "write_synthetic_residuals"]
+__all__ = ["flyby_field_columns", "write_flyby_fields", "write_synthetic_residuals", "write_flyby_stream"]
 
 
 def flyby_field_columns(prediction) -> dict:
@@ -87,23 +87,28 @@ def write_flyby_fields(path, prediction, *, compare_label: str | None = None) ->
     >>> len(out.read_text().splitlines())  # 4 comment lines, the header, 3601 rows
     3606
     """
-    from induct.flyby.prediction import FLYBY_LIMITS
     from induct.io.tracks import write_csv
+
+    track = prediction.track
+    write_csv(path, flyby_field_columns(prediction), _field_comments(prediction, compare_label, f"{track.size} rows"))
+
+
+def _field_comments(prediction, compare_label, rows_text):
+    from induct.flyby.prediction import FLYBY_LIMITS
 
     track = prediction.track
     comparison = prediction.comparison
     if comparison is not None and compare_label is None:
         compare_label = comparison.other
     when = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
-    comments = [
+    return [
         f"induct {__version__} flyby, {when}: scenario {prediction.scenario_source}, trajectory {track.source}",
-        f"frame {track.frame}; {track.size} rows; t_s in s from the epoch of the driving lines; fields in nT",
+        f"frame {track.frame}; {rows_text}; t_s in s from the epoch of the driving lines; fields in nT",
         "ind = induced field, pri = primary (driving) field"
         + (" incl. its non-uniform part from the planet's gradient" if prediction.degree2 is not None else "") + ", tot = pri + ind"
         + (f", diff = induced field minus that of {compare_label}" if comparison is not None else ""),
         FLYBY_LIMITS,
     ]
-    write_csv(path, flyby_field_columns(prediction), comments)
 
 
 def write_synthetic_residuals(path, prediction, residuals_nT, noise_nT: float, seed: int) -> None:
@@ -143,7 +148,78 @@ def write_synthetic_residuals(path, prediction, residuals_nT, noise_nT: float, s
     noisy = np.asarray(residuals_nT, dtype=float)
     for c in range(3):
         res[f"b{'xyz'[c]}_nT"] = noisy[:, c]
-    write_csv(path, res, [
+    write_csv(path, res, _residual_comments(prediction, noise_nT, seed))
+
+
+def _residual_comments(prediction, noise_nT, seed):
+    return [
         f"induct {__version__} flyby: SYNTHETIC residuals (induced field of {prediction.scenario} + Gaussian noise "
-        f"{noise_nT:g} nT, seed {seed}), frame {track.frame}",
-    ])
+        f"{noise_nT:g} nT, seed {seed}), frame {prediction.track.frame}",
+    ]
+
+
+def write_flyby_stream(path, predictions, *, compare_label: str | None = None, residuals=None):
+    """Write the fields of a track predicted piece by piece, without holding the whole track.
+
+    Parameters
+    ----------
+    path : str or Path
+        The field file (same columns as :func:`write_flyby_fields`; the row count is the last comment).
+    predictions : iterable of FlybyPrediction
+        One per consecutive piece of the track (e.g. from :func:`induct.io.tracks.iter_track_chunks`).
+    compare_label : str, optional
+    residuals : tuple (path, noise_nT, seed), optional
+        Also write synthetic residuals; the noise stream of ``numpy.random.default_rng(seed)`` continues from
+        piece to piece, so the values equal those of :func:`induct.flyby.prediction.synthetic_residuals`.
+
+    Returns
+    -------
+    FlybySummary
+        The summary of the whole track.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> from induct.flyby.prediction import predict_flyby
+    >>> from induct.io.tracks import iter_track_chunks
+    >>> sc = load_scenario("ilmare")
+    >>> out = Path(tempfile.mkdtemp()) / "f.csv"
+    >>> s = write_flyby_stream(out, (predict_flyby(sc, t) for t in iter_track_chunks("ilmare_flyby", chunk_rows=1000)))
+    >>> s.points, len(out.read_text().splitlines())  # 4 comments, the header, 3601 rows, the count
+    (3601, 3607)
+    """
+    import contextlib
+
+    from induct.flyby.prediction import FlybySummary
+    from induct.io.tracks import csv_appender, from_flow_frame
+
+    summary = FlybySummary()
+    with contextlib.ExitStack() as stack:
+        fields = rng = res_append = None
+        for piece in predictions:
+            cols = flyby_field_columns(piece)
+            if fields is None:
+                fields = stack.enter_context(csv_appender(path, list(cols), _field_comments(piece, compare_label,
+                                                                                            "rows streamed")))
+                if residuals is not None:
+                    res_path, noise_nT, seed = residuals
+                    if not (isinstance(noise_nT, (int, float)) and 0 < noise_nT < float("inf")):
+                        raise ValueError(f"noise_nT must be > 0 nT and finite for synthetic residuals, got {noise_nT}")
+                    rng = np.random.default_rng(seed)
+                    res_append = stack.enter_context(csv_appender(
+                        res_path, ["t_s", "x_km", "y_km", "z_km", "bx_nT", "by_nT", "bz_nT"],
+                        _residual_comments(piece, noise_nT, seed)))
+            fields(cols)
+            if res_append is not None:
+                induced = piece.induced_nT
+                noisy = from_flow_frame(induced, piece.track.frame) + rng.normal(0.0, noise_nT, induced.shape)
+                pos = from_flow_frame(piece.track.positions_km, piece.track.frame)
+                res_append({"t_s": piece.track.times_s, "x_km": pos[:, 0], "y_km": pos[:, 1], "z_km": pos[:, 2],
+                            "bx_nT": noisy[:, 0], "by_nT": noisy[:, 1], "bz_nT": noisy[:, 2]})
+            summary.add(piece)
+        if fields is None:
+            raise ValueError("no track rows to write")
+        fields.comment(f"{summary.points} rows")
+    return summary

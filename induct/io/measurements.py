@@ -27,8 +27,10 @@ degree), in one of two forms:
 An entry may carry both forms (as written by ``induct fit``); the covariance
 form is then used and the amplitude/phase keys are informational. Every other
 key is rejected so that a misspelt key is not silently ignored; ``label`` and
-``note`` (strings) are allowed. Top-level tables other than ``response`` (for
-example a ``[source]`` table) and top-level strings are kept as metadata.
+``note`` (strings) are allowed. Besides ``response``, a ``[source]`` table and the
+top-level strings ``title``, ``description``, ``notes`` and ``body`` are kept as
+metadata; any other top-level key is rejected. Uncertainties are bounded
+(:data:`SIGMA_RANGE`, :data:`VARIANCE_RANGE`) so that the misfit stays finite.
 
 The misfit is the Gaussian chi-square summed over entries,
 ``chi2 = sum_k r_k^T C_k^-1 r_k`` with ``r_k`` the 2-vector of residuals in the
@@ -156,12 +158,28 @@ def _number(entry, key, where) -> float:
     return value
 
 
+#: Bounds of the 1-sigma uncertainties (beyond them chi-square overflows or the datum means nothing).
+SIGMA_RANGE = {"amplitude_sigma": (1e-9, 10.0), "phase_lag_sigma_deg": (1e-6, 1000.0)}
+#: Bounds of the variances in ``cov`` (real and imaginary parts).
+VARIANCE_RANGE = (1e-18, 100.0)
+#: Largest |value| of amplitude, real and imag (|R_n| <= (n+1)/n for any interior).
+VALUE_MAX = 10.0
+#: Period bounds (h), as for scenario files.
+PERIOD_RANGE_H = (1e-6, 1e9)
+#: Top-level keys besides ``response``: the ``[source]`` table written by ``induct fit`` and a few strings.
+_TOP_TABLES = {"source"}
+_TOP_STRINGS = {"title", "description", "notes", "body"}
+
+
 def _sigma(entry, key, where) -> float:
     if key not in entry:
         raise ValueError(f"{where}: missing {key} (the 1-sigma uncertainty, > 0)")
     value = _number(entry, key, where)
     if value <= 0:
         raise ValueError(f"{where}: {key} must be > 0 (a 1-sigma uncertainty), got {value:g}")
+    lo, hi = SIGMA_RANGE[key]
+    if not lo <= value <= hi:
+        raise ValueError(f"{where}: {key} must be between {lo:g} and {hi:g} (a 1-sigma uncertainty), got {value:g}")
     return value
 
 
@@ -180,6 +198,13 @@ def _parse_entry(entry, where):
     period = _number(entry, "period_h", where)
     if period <= 0:
         raise ValueError(f"{where}: period_h must be > 0 h, got {period:g}")
+    if not PERIOD_RANGE_H[0] <= period <= PERIOD_RANGE_H[1]:
+        raise ValueError(f"{where}: period_h must be between {PERIOD_RANGE_H[0]:g} and {PERIOD_RANGE_H[1]:g} h, "
+                         f"got {period:g}")
+    for key in ("amplitude", "real", "imag"):
+        if key in entry and not abs(_number(entry, key, where)) <= VALUE_MAX:
+            raise ValueError(f"{where}: {key} must be between {-VALUE_MAX:g} and {VALUE_MAX:g} "
+                             f"(a normalised response), got {_number(entry, key, where):g}")
     degree = entry.get("degree", 1)
     if isinstance(degree, bool) or not isinstance(degree, int) or not 1 <= degree <= MAX_DEGREE:
         raise ValueError(f"{where}: degree must be an integer from 1 to {MAX_DEGREE}, got {degree!r}")
@@ -229,6 +254,9 @@ def _cartesian(entry, where):
         raise ValueError(f"{where}: cov must be finite, got {cov!r}")
     if c[0, 0] <= 0 or c[1, 1] <= 0:
         raise ValueError(f"{where}: cov diagonal (the variances of real and imag) must be > 0, got {c[0, 0]:g} and {c[1, 1]:g}")
+    lo, hi = VARIANCE_RANGE
+    if not (lo <= c[0, 0] <= hi and lo <= c[1, 1] <= hi and abs(c[0, 1]) <= hi and abs(c[1, 0]) <= hi):
+        raise ValueError(f"{where}: cov variances must be between {lo:g} and {hi:g}, got {c[0, 0]:g} and {c[1, 1]:g}")
     if abs(c[0, 1] - c[1, 0]) > 1e-9 * math.sqrt(c[0, 0] * c[1, 1]):
         raise ValueError(f"{where}: cov must be symmetric, got off-diagonal {c[0, 1]:g} and {c[1, 0]:g}")
     c[1, 0] = c[0, 1]
@@ -261,10 +289,13 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
     if not isinstance(doc, dict):
         raise ValueError(f"{source}: expected a TOML document with [[response]] tables")
     for key, value in doc.items():
-        if key != "response" and not isinstance(value, (dict, str)):
+        if key == "response":
+            continue
+        ok = (key in _TOP_TABLES and isinstance(value, dict)) or (key in _TOP_STRINGS and isinstance(value, str))
+        if not ok:
             raise ValueError(
                 f"{source}: unknown top-level key {key!r}; measurements go in [[response]] tables "
-                "(other top-level entries may only be tables or strings, kept as metadata)"
+                f"(besides them a [source] table and the strings {', '.join(sorted(_TOP_STRINGS))} are kept as metadata)"
             )
     entries = doc.get("response")
     if not isinstance(entries, list) or not entries:

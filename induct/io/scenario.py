@@ -54,11 +54,56 @@ _LAYER_EXTRA_KEYS = {
     "salinity_g_per_kg",
     "temperature_C",
     "temperature_profile",
-    "sublayers",
     "kind",
     "description",
 }
 _ION_KEYS = {"conductance_S", "altitude_km"}
+_DRIVE_KEYS = {"periods_h", "lines"}
+#: Type of every key: "number" (int or float, never a boolean or a string), "string".
+_TYPES = {
+    "name": "string", "description": "string", "parent": "string", "notes": "string", "kind": "string",
+    "solute": "string", "temperature_profile": "string",
+    "radius_km": "number", "thickness_km": "number", "conductivity_S_per_m": "number", "density_kg_per_m3": "number",
+    "salinity_g_per_kg": "number", "temperature_C": "number", "conductance_S": "number", "altitude_km": "number",
+}
+#: Bounds a scenario file must keep (beyond them the arithmetic overflows or the model means nothing).
+CONDUCTIVITY_MAX_S_PER_M = 1e10   # metals are ~1e7 S/m; inf (perfect conductor) is allowed in the innermost layer
+PERIOD_RANGE_H = (1e-6, 1e9)      # 3.6 ms to ~100,000 years
+LENGTH_MAX_KM = 1e6
+#: Chemistry keys, meaningful only for a layer given by salinity instead of conductivity.
+_CHEMISTRY_KEYS = ("solute", "temperature_C", "temperature_profile")
+
+
+def _check_types(table: dict, where: str) -> None:
+    """Every key of ``table`` has the type :data:`_TYPES` says (no booleans or strings for numbers)."""
+    for key, value in table.items():
+        kind = _TYPES.get(key)
+        if kind == "string" and not isinstance(value, str):
+            raise ValueError(f"{where}: {key} must be a string, got {_show(value)}")
+        if kind == "number":
+            if isinstance(value, bool) or not isinstance(value, (int, float)):
+                raise ValueError(f"{where}: {key} must be a number (not {_kind_name(value)}), got {_show(value)}")
+            if value != value:
+                raise ValueError(f"{where}: {key} is NaN")
+            if key == "conductivity_S_per_m":
+                if value < 0:
+                    raise ValueError(f"{where}: {key} must be >= 0 S/m, got {value:g}")
+                if not (value <= CONDUCTIVITY_MAX_S_PER_M or value == float("inf")):
+                    raise ValueError(f"{where}: {key} must be at most {CONDUCTIVITY_MAX_S_PER_M:g} S/m "
+                                     f"(or inf, a perfect conductor, in the innermost layer), got {value:g}")
+            elif key.endswith("_km") and not abs(value) <= LENGTH_MAX_KM:
+                raise ValueError(f"{where}: {key} must be at most {LENGTH_MAX_KM:g} km, got {value:g}")
+            elif not abs(value) < float("inf"):
+                raise ValueError(f"{where}: {key} must be finite, got {value:g}")
+
+
+def _kind_name(value) -> str:
+    return {bool: "a boolean", str: "a string", list: "a list", dict: "a table"}.get(type(value), type(value).__name__)
+
+
+def _show(value) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 @dataclass
@@ -115,6 +160,12 @@ def parse_scenario(doc: dict, path: Path | None = None) -> Scenario:
     if not isinstance(body, dict):
         raise ValueError(f"{where}: missing [body] table with name and radius_km")
     _unknown(body.keys(), _BODY_KEYS, f"{where}: [body]")
+    _check_types({k: v for k, v in body.items() if k != "epoch"}, f"{where}: [body]")
+    if "notes" in doc and not isinstance(doc["notes"], str):
+        raise ValueError(f"{where}: notes must be a string, got {_show(doc['notes'])}")
+    for table in ("ionosphere", "drive", "invert"):
+        if table in doc and not isinstance(doc[table], dict):
+            raise ValueError(f"{where}: {table} must be a table [{table}], got {_show(doc[table])}")
     if "radius_km" not in body:
         raise ValueError(f"{where}: [body] needs radius_km (km, > 0)")
     layers_raw = doc.get("layers")
@@ -122,10 +173,23 @@ def parse_scenario(doc: dict, path: Path | None = None) -> Scenario:
         raise ValueError(f"{where}: needs at least one [[layers]] table, listed from the surface down")
     layers = []
     for i, item in enumerate(layers_raw):
+        if not isinstance(item, dict):
+            raise ValueError(f"{where}: layers must be [[layers]] tables, got {_show(item)}")
         lw = f"{where}: [[layers]] {i + 1} ({item.get('name', '?')!r})"
+        if "sublayers" in item:
+            raise ValueError(f"{lw}: sublayers is not a setting: the ocean is split into sub-layers automatically "
+                             "until its response converges; remove the key")
         _unknown(item.keys(), _LAYER_CORE_KEYS | _LAYER_EXTRA_KEYS, lw)
         if "name" not in item:
             raise ValueError(f"{lw}: needs a name")
+        _check_types(item, lw)
+        if "conductivity_S_per_m" in item and "salinity_g_per_kg" in item:
+            raise ValueError(f"{lw}: give conductivity_S_per_m or salinity_g_per_kg (with solute), not both: "
+                             "the conductivity follows from the chemistry")
+        stray = [k for k in _CHEMISTRY_KEYS if k in item and "salinity_g_per_kg" not in item]
+        if stray:
+            raise ValueError(f"{lw}: {', '.join(stray)} need(s) salinity_g_per_kg (an ocean given by its chemistry); "
+                             "remove them or give the salinity instead of conductivity_S_per_m")
         extra = {k: v for k, v in item.items() if k in _LAYER_EXTRA_KEYS}
         layers.append(
             Layer(
@@ -139,6 +203,7 @@ def parse_scenario(doc: dict, path: Path | None = None) -> Scenario:
     if "ionosphere" in doc:
         ion_raw = doc["ionosphere"]
         _unknown(ion_raw.keys(), _ION_KEYS, f"{where}: [ionosphere]")
+        _check_types(ion_raw, f"{where}: [ionosphere]")
         missing = _ION_KEYS - set(ion_raw)
         if missing:
             raise ValueError(f"{where}: [ionosphere] needs {', '.join(sorted(missing))}")
@@ -160,21 +225,39 @@ def _resolve_chemistry(layers, body, where, periods_h):
     return resolve_chemistry_layers(layers, body, where, periods_h)
 
 
+def check_periods_h(periods, what: str) -> np.ndarray:
+    """Periods (h) as a float array: each a number (not a boolean or string) within :data:`PERIOD_RANGE_H`.
+
+    Examples
+    --------
+    >>> check_periods_h([12.0, 6], "periods_h").tolist()
+    [12.0, 6.0]
+    """
+    lo, hi = PERIOD_RANGE_H
+    for p in periods:
+        if isinstance(p, bool) or not isinstance(p, (int, float, np.integer, np.floating)):
+            raise ValueError(f"{what} must hold numbers (hours), got {_show(p)}")
+        if not p > 0:
+            raise ValueError(f"{what} must be > 0 h, got {float(p):g}")
+        if not lo <= p <= hi:
+            raise ValueError(f"{what} must be between {lo:g} and {hi:g} h, got {float(p):g}")
+    return np.array(periods, dtype=float)
+
+
 def _periods(drive: dict, where: str) -> np.ndarray:
+    _unknown(drive.keys(), _DRIVE_KEYS, f"{where}: [drive]")
     if "periods_h" in drive:
         periods = drive["periods_h"]
         if not isinstance(periods, list) or not periods:
             raise ValueError(f"{where}: [drive] periods_h must be a non-empty list of periods in hours")
-        arr = np.array(periods, dtype=float)
-        bad = ~(np.isfinite(arr) & (arr > 0))
-        if bad.any():
-            raise ValueError(f"{where}: [drive] periods_h must be > 0 h, got {arr[bad][0]!r}")
-        return arr
+        return check_periods_h(periods, f"{where}: [drive] periods_h")
     lines = drive.get("lines") or []
+    if not isinstance(lines, list) or not all(isinstance(line, dict) for line in lines):
+        raise ValueError(f"{where}: [drive] lines must be [[drive.lines]] tables")
     periods = [line.get("period_h") for line in lines]
     if any(p is None for p in periods):
         raise ValueError(f"{where}: every [[drive.lines]] needs period_h")
-    return np.array(periods, dtype=float)
+    return check_periods_h(periods, f"{where}: [[drive.lines]] period_h")
 
 
 def load_scenario(name_or_path) -> Scenario:

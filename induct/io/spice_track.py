@@ -286,16 +286,9 @@ def write_track_csv(path, times_s, positions_km, *, utc=None, comments=()) -> No
 
 
 def _write_text_atomic(path: Path, text: str) -> None:
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.remove(tmp)
-        raise
+    from induct.io.files import write_text
+
+    write_text(path, text)
 
 
 # ----------------------------------------------------------------------------- SPICE helpers
@@ -728,16 +721,11 @@ def write_demo_kernels(folder) -> list:
     vel = d["speed_km_s"] * axes[0]  # along the flow direction: perpendicular to the CA vector
     probe_t = t_ca + np.arange(-7800.0, 7801.0, 600.0)
     probe_states = np.hstack([ca + (probe_t - t_ca)[:, None] * vel, np.broadcast_to(vel, (probe_t.size, 3))])
-    fd, tmp = tempfile.mkstemp(prefix=".tarvos_demo.", suffix=".bsp", dir=folder)
-    os.close(fd)
-    os.remove(tmp)  # spkopn creates the file itself
-    try:
-        handle = sp.spkopn(tmp, "induct demo", 0)
+    from induct.io.files import atomic_path
+
+    with atomic_path(spk, suffix=".bsp") as tmp:  # spkopn creates the file itself
+        handle = sp.spkopn(str(tmp), "induct demo", 0)
         sp.spkw09(handle, 9101, 9100, "J2000", moon_t[0], moon_t[-1], "ILMARE", 11, moon_t.size, moon_states, moon_t)
         sp.spkw09(handle, -9900, 9101, "J2000", probe_t[0], probe_t[-1], "PROBE", 1, probe_t.size, probe_states, probe_t)
         sp.spkcls(handle)
-        os.replace(tmp, spk)
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
     return [str(lsk), str(pck), str(spk)]

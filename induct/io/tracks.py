@@ -31,6 +31,7 @@ file line and the column.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -41,6 +42,8 @@ __all__ = [
     "FRAMES",
     "TRACK_COLUMNS",
     "RESIDUAL_COLUMNS",
+    "iter_track_chunks",
+    "csv_appender",
     "Track",
     "read_track",
     "resolve_track_path",
@@ -136,16 +139,17 @@ def resolve_track_path(name_or_path) -> Path:
 def _read_rows(path: Path):
     """Header cells, header line number, data lines (text) and their line numbers."""
     header, header_line, rows, lines = None, 0, [], []
-    with open(path, newline="", encoding="utf-8") as handle:
-        for number, text in enumerate(handle, start=1):
-            stripped = text.strip()
-            if not stripped or stripped.startswith("#"):
-                continue
-            if header is None:
-                header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
-                continue
-            rows.append(stripped)
-            lines.append(number)
+    from induct.io.files import read_text_file
+
+    for number, text in enumerate(read_text_file(path, "CSV file").splitlines(), start=1):
+        stripped = text.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        if header is None:
+            header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
+            continue
+        rows.append(stripped)
+        lines.append(number)
     return header, header_line, rows, lines
 
 
@@ -188,6 +192,12 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
     if frame is not None:
         _check_frame(frame, f"{source}: frame option")
     header, header_line, rows, lines = _read_rows(path)
+    return _track_from_rows(source, header, header_line, rows, lines, columns, frame)
+
+
+def _track_from_rows(source, header, header_line, rows, lines, columns=(), frame=None, *, row0: int = 0,
+                     min_rows: int = 2) -> Track:
+    """Check data rows (text) under ``header`` and build a :class:`Track` (``row0``: rows before these)."""
     if header is None:
         raise ValueError(f"{source}: empty file; the first line must be a header such as {','.join(TRACK_COLUMNS)}")
     needed = list(TRACK_COLUMNS) + [c for c in columns if c not in TRACK_COLUMNS]
@@ -200,7 +210,7 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
             f"{source}: line {header_line}: missing column(s) {', '.join(missing)}; the header must name "
             f"{','.join(needed)} (got {','.join(header)})"
         )
-    if len(rows) < 2:
+    if len(rows) < min_rows:
         raise ValueError(f"{source}: needs at least 2 data rows, got {len(rows)}")
     width = len(header)
     index = {c: header.index(c) for c in needed}
@@ -213,14 +223,14 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
             if bad.any():
                 i = int(np.argmax(bad))
                 cell = next(csv.reader([rows[i]]))[index[name]].strip()
-                raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: value must be finite, got {cell!r}")
+                raise ValueError(f"{source}: row {row0 + i + 1}, line {lines[i]}, column {name}: value must be finite, got {cell!r}")
             data[name] = values.copy()
         table = None
     else:
         cells = [next(csv.reader([row])) for row in rows]
         for i, (row, number) in enumerate(zip(cells, lines)):
             if len(row) != width:
-                raise ValueError(f"{source}: row {i + 1}, line {number}: {len(row)} values, expected {width} ({','.join(header)})")
+                raise ValueError(f"{source}: row {row0 + i + 1}, line {number}: {len(row)} values, expected {width} ({','.join(header)})")
         table = np.array(cells, dtype=object)
         for name in needed:
             raw = table[:, index[name]]
@@ -231,12 +241,12 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
                     try:
                         float(cell)
                     except ValueError:
-                        raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: not a number: {cell!r}") from None
+                        raise ValueError(f"{source}: row {row0 + i + 1}, line {lines[i]}, column {name}: not a number: {cell!r}") from None
                 raise  # pragma: no cover - astype and float agree
             bad = ~np.isfinite(values)
             if bad.any():
                 i = int(np.argmax(bad))
-                raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column {name}: value must be finite, got {raw[i].strip()!r}")
+                raise ValueError(f"{source}: row {row0 + i + 1}, line {lines[i]}, column {name}: value must be finite, got {raw[i].strip()!r}")
             data[name] = values
     file_frame = None
     if "frame" in header:
@@ -244,11 +254,11 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
         for i, value in enumerate(col):
             if value not in FRAMES:
                 raise ValueError(
-                    f"{source}: row {i + 1}, line {lines[i]}, column frame: unknown frame {value!r}; allowed: {', '.join(FRAMES)}"
+                    f"{source}: row {row0 + i + 1}, line {lines[i]}, column frame: unknown frame {value!r}; allowed: {', '.join(FRAMES)}"
                 )
             if value != col[0]:
                 raise ValueError(
-                    f"{source}: row {i + 1}, line {lines[i]}, column frame: {value!r} differs from the first row's "
+                    f"{source}: row {row0 + i + 1}, line {lines[i]}, column frame: {value!r} differs from the first row's "
                     f"{col[0]!r}; one frame per file"
                 )
         file_frame = col[0]
@@ -262,12 +272,85 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
         i = int(np.argmax(bad)) + 1
         kind = "repeats" if step[i - 1] == 0.0 else "is earlier than"
         raise ValueError(
-            f"{source}: row {i + 1}, line {lines[i]}, column t_s: t_s = {float(t[i])!r} {kind} the previous row's "
+            f"{source}: row {row0 + i + 1}, line {lines[i]}, column t_s: t_s = {float(t[i])!r} {kind} the previous row's "
             f"{float(t[i - 1])!r}; times must increase strictly (no duplicates, in time order)"
         )
     pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
     extra = {c: data[c] for c in needed if c not in TRACK_COLUMNS}
     return Track(t, to_flow_frame(pos, use_frame), use_frame, extra, source, np.array(lines))
+
+
+def iter_track_chunks(path, *, columns=(), frame: str | None = None, chunk_rows: int = 100_000):
+    """Read a trajectory CSV file in pieces of ``chunk_rows`` rows: the checks of :func:`read_track`, bounded memory.
+
+    Parameters
+    ----------
+    path : str or Path
+        The file, or the stem of a bundled track.
+    columns, frame
+        As for :func:`read_track`.
+    chunk_rows : int
+        Rows per piece (>= 2).
+
+    Yields
+    ------
+    Track
+        Consecutive pieces (times increase across pieces; one frame for the file).
+
+    Examples
+    --------
+    >>> pieces = list(iter_track_chunks("ilmare_flyby", chunk_rows=1000))
+    >>> [p.size for p in pieces]
+    [1000, 1000, 1000, 601]
+    """
+    from induct.io.files import decode_text
+
+    if chunk_rows < 2:
+        raise ValueError(f"chunk_rows must be >= 2, got {chunk_rows}")
+    path = resolve_track_path(path)
+    source = str(path)
+    if frame is not None:
+        _check_frame(frame, f"{source}: frame option")
+    header, header_line, rows, lines = None, 0, [], []
+    state = {"row0": 0, "last_t": None, "frame": None}
+
+    def emit():
+        track = _track_from_rows(source, header, header_line, rows, lines, columns, frame, row0=state["row0"],
+                                 min_rows=1)
+        if state["last_t"] is not None and not track.times_s[0] > state["last_t"]:
+            raise ValueError(f"{source}: row {state['row0'] + 1}, line {lines[0]}, column t_s: t_s = "
+                             f"{float(track.times_s[0])!r} does not follow the previous row's {state['last_t']!r}; "
+                             "times must increase strictly")
+        if state["frame"] is not None and track.frame != state["frame"]:
+            raise ValueError(f"{source}: line {lines[0]}: frame {track.frame!r} differs from the first rows' "
+                             f"{state['frame']!r}; one frame per file")
+        state["row0"] += len(rows)
+        state["last_t"], state["frame"] = float(track.times_s[-1]), track.frame
+        return track
+
+    try:
+        handle = open(path, "rb")
+    except OSError as exc:
+        raise ValueError(f"{source}: cannot read this trajectory file ({exc.strerror or exc})") from None
+    with handle:
+        for number, raw in enumerate(handle, start=1):
+            stripped = decode_text(raw, source, "CSV file").strip()
+            if not stripped or stripped.startswith("#"):
+                continue
+            if header is None:
+                header, header_line = [c.strip() for c in next(csv.reader([stripped]))], number
+                continue
+            rows.append(stripped)
+            lines.append(number)
+            if len(rows) == chunk_rows:
+                yield emit()
+                rows, lines = [], []
+    if header is None:
+        raise ValueError(f"{source}: empty file; the first line must be a header such as {','.join(TRACK_COLUMNS)}")
+    if state["row0"] + len(rows) < 2:
+        raise ValueError(f"{source}: needs at least 2 data rows, got {state['row0'] + len(rows)}")
+    if rows:
+        yield emit()
 
 
 def check_outside(track: Track, radius_km: float, what: str = "the body") -> None:
@@ -303,17 +386,57 @@ def write_csv(path, columns: dict, comments=()) -> None:
     comments : sequence of str
         One ``# ...`` line each.
     """
-    names = list(columns)
-    arrays = [np.asarray(columns[n], dtype=float) for n in names]
-    n = arrays[0].size if arrays else 0
+    with csv_appender(path, list(columns), comments) as append:
+        append(columns)
+
+
+@contextlib.contextmanager
+def csv_appender(path, names, comments=()):
+    """Write a CSV file in pieces: ``#`` comments and the header first, then ``append(columns)`` per piece.
+
+    The file is written atomically (:func:`induct.io.files.atomic_open`): it appears only when the block ends
+    without error.
+
+    Parameters
+    ----------
+    path : str or Path
+    names : sequence of str
+        Column names, in output order.
+    comments : sequence of str
+        One ``# ...`` line each.
+
+    Yields
+    ------
+    callable
+        ``append(columns)``: a dict of str -> array_like, shape (N,), with every name; 12 significant digits.
+        ``append.comment(text)`` adds a ``# ...`` line.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> out = Path(tempfile.mkdtemp()) / "a.csv"
+    >>> with csv_appender(out, ["t_s", "x_km"]) as append:
+    ...     append({"t_s": [0.0, 1.0], "x_km": [5.0, 6.0]})
+    ...     append({"t_s": [2.0], "x_km": [7.0]})
+    >>> out.read_text().splitlines()
+    ['t_s,x_km', '0,5', '1,6', '2,7']
+    """
     from induct.io.files import atomic_open
 
+    names = list(names)
     with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
         for text in comments:
             handle.write("# " + " ".join(str(text).split()) + "\n")
         handle.write(",".join(names) + "\n")
-        if n:
-            np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+
+        def append(columns):
+            arrays = [np.asarray(columns[n], dtype=float) for n in names]
+            if arrays and arrays[0].size:
+                np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+
+        append.comment = lambda text: handle.write("# " + " ".join(str(text).split()) + "\n")
+        yield append
 
 
 def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
@@ -348,7 +471,10 @@ def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
     ([0.0, 60.0], (2, 3))
     """
     rows = []
-    with open(path, newline="", encoding="utf-8") as handle:
+    from induct.io.files import read_text_file
+
+    handle = read_text_file(path, "CSV file").splitlines()
+    if True:
         reader = csv.reader(row for row in handle if row.strip() and not row.lstrip().startswith("#"))
         header = next(reader, None)
         if header is None or [h.strip() for h in header] != SERIES_HEADER:

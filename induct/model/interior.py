@@ -485,5 +485,5 @@ def _periods_seconds(periods_s, periods_h) -> np.ndarray:
         raise ValueError(f"{what} must be a non-empty 1-D list of periods")
     bad = ~(np.isfinite(arr) & (arr > 0))
     if bad.any():
-        raise ValueError(f"{what} must be finite and > 0, got {arr[bad][0] / scale!r}")
+        raise ValueError(f"{what} must be finite and > 0, got {float(arr[bad][0] / scale)!r}")
     return arr

@@ -149,7 +149,7 @@ def transfer(radii_m, conductivity_S_per_m, period_s, degree: int = 1, *, chunk_
     _check_layers(radii, sigma)
     if np.any(~np.isfinite(period)) or np.any(period <= 0.0):
         bad = period[~(np.isfinite(period) & (period > 0))]
-        raise ValueError(f"period_s must be finite and > 0 s, got {bad.ravel()[0]!r}")
+        raise ValueError(f"period_s must be finite and > 0 s, got {float(bad.ravel()[0])!r}")
     if int(chunk_size) < 1:
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
     batch = np.broadcast_shapes(radii.shape[:-1], sigma.shape[:-1], period.shape)

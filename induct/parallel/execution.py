@@ -16,21 +16,66 @@ same :class:`Backend` protocol.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Any, Callable, Iterable, Protocol
 
-__all__ = ["Backend", "InProcess", "chunk_ranges", "run_reduction", "DEFAULT_TASK_SIZE"]
+__all__ = ["Backend", "InProcess", "ChunkRanges", "chunk_ranges", "run_reduction", "DEFAULT_TASK_SIZE"]
 
 #: Default number of work items (models or model-periods) per task.
 DEFAULT_TASK_SIZE = 262_144
 
 
-def chunk_ranges(total: int, chunk_size: int) -> list[tuple[int, int]]:
-    """Split ``range(total)`` into consecutive ``(start, stop)`` pieces of at most ``chunk_size``."""
+class ChunkRanges(Sequence):
+    """The ``(start, stop)`` pieces of ``range(total)``, generated on demand (a grid of 1e15 cells costs nothing).
+
+    Examples
+    --------
+    >>> r = ChunkRanges(10, 4)
+    >>> len(r), list(r), r[-1]
+    (3, [(0, 4), (4, 8), (8, 10)], (8, 10))
+    """
+
+    def __init__(self, total: int, chunk_size: int):
+        self.total, self.chunk_size = int(total), int(chunk_size)
+
+    def __len__(self) -> int:
+        return -(-self.total // self.chunk_size)
+
+    def __getitem__(self, i):
+        if isinstance(i, slice):
+            return [self[j] for j in range(*i.indices(len(self)))]
+        n = len(self)
+        if i < 0:
+            i += n
+        if not 0 <= i < n:
+            raise IndexError(i)
+        start = i * self.chunk_size
+        return (start, min(start + self.chunk_size, self.total))
+
+    def __iter__(self):
+        for start in range(0, self.total, self.chunk_size):
+            yield (start, min(start + self.chunk_size, self.total))
+
+    def __eq__(self, other):
+        return list(self) == list(other) if isinstance(other, (list, tuple, ChunkRanges)) else NotImplemented
+
+    def __repr__(self) -> str:
+        return f"ChunkRanges(total={self.total}, chunk_size={self.chunk_size})"
+
+
+def chunk_ranges(total: int, chunk_size: int) -> ChunkRanges:
+    """Split ``range(total)`` into consecutive ``(start, stop)`` pieces of at most ``chunk_size`` (a lazy sequence).
+
+    Examples
+    --------
+    >>> list(chunk_ranges(5, 2))
+    [(0, 2), (2, 4), (4, 5)]
+    """
     if total < 0:
         raise ValueError(f"total must be >= 0, got {total}")
     if chunk_size < 1:
         raise ValueError(f"chunk size must be >= 1, got {chunk_size}")
-    return [(s, min(s + chunk_size, total)) for s in range(0, total, chunk_size)]
+    return ChunkRanges(total, chunk_size)
 
 
 class Backend(Protocol):

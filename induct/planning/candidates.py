@@ -131,15 +131,15 @@ class Candidate:
         bad = ~np.isfinite(t)
         if bad.any():
             i = int(np.argmax(bad))
-            raise ValueError(f"{where}: times_s[{i}] must be finite, got {t[i]!r}")
+            raise ValueError(f"{where}: times_s[{i}] must be finite, got {float(t[i])!r}")
         bad = ~np.isfinite(pos)
         if bad.any():
             i, c = np.argwhere(bad)[0]
-            raise ValueError(f"{where}: positions_km[{i}, {c}] must be finite, got {pos[i, c]!r}")
+            raise ValueError(f"{where}: positions_km[{i}, {c}] must be finite, got {float(pos[i, c])!r}")
         step = np.diff(t)
         if np.any(step <= 0.0):
             i = int(np.argmax(step <= 0.0)) + 1
-            raise ValueError(f"{where}: times_s[{i}] = {t[i]!r} does not follow times_s[{i - 1}] = {t[i - 1]!r}; "
+            raise ValueError(f"{where}: times_s[{i}] = {float(t[i])!r} does not follow times_s[{i - 1}] = {float(t[i - 1])!r}; "
                              "times must increase strictly")
         t.setflags(write=False)
         pos.setflags(write=False)
@@ -387,7 +387,7 @@ def _values(value, what):
         raise ValueError(f"{what}: give a number or a non-empty list of numbers")
     bad = ~np.isfinite(arr)
     if bad.any():
-        raise ValueError(f"{what}: values must be finite, got {arr[bad][0]!r}")
+        raise ValueError(f"{what}: values must be finite, got {float(arr[bad][0])!r}")
     return arr
 
 

@@ -76,7 +76,7 @@ def test_invalid_rows_in_a_table_are_marked(capsys):
     (["--solute", "seawater", "--salinity", "35", "--temperature", "-5"], "below the freezing point"),
     (["--solute", "CaCl2", "--salinity", "35", "--temperature", "5"], "--solute must be one of"),
     (["--solute", "NaCl", "--salinity", "400", "--temperature", "20"], "above saturation"),
-    (["--solute", "NaCl", "--salinity", "-3", "--temperature", "20"], "salinity_g_per_kg=-3 is negative"),
+    (["--solute", "NaCl", "--salinity", "-3", "--temperature", "20"], "--salinity must be >= 0 (a salinity cannot be negative)"),
     (["--solute", "NaCl", "--salinity", "1:2", "--temperature", "20"], "--salinity must be a number or lo:hi:n"),
     (["--solute", "NaCl", "--salinity", "nan", "--temperature", "20"], "must be finite"),
 ])

@@ -120,4 +120,4 @@ def test_missing_scenario(capsys):
 def test_bad_cli_period(tmp_path, capsys):
     path = write(tmp_path, GOOD)
     assert main(["respond", str(path), "--periods-h", "-3"]) == 2
-    assert "period_h must be finite and > 0" in capsys.readouterr().err
+    assert "--periods-h must be > 0 h" in capsys.readouterr().err

@@ -22,8 +22,6 @@ import csv
 import datetime
 import itertools
 import json
-import os
-import tempfile
 
 import numpy as np
 
@@ -70,37 +68,56 @@ def register(subparsers):
     return p
 
 
-def _parse_values(text, name):
-    """Parse ``value`` or ``lo:hi:n`` into a 1-D float array."""
+#: Lower bounds of the inputs (the upper bounds depend on the solute and are checked by induct.brine).
+_MINIMUM = {"salinity": (0.0, "a salinity"), "pressure": (0.0, "a sea pressure (MPa)")}
+
+
+def _parse_spec(text, name):
+    """Parse ``value`` or ``lo:hi:n`` into ``(lo, hi, n)`` without allocating; values checked (finite, >= minimum)."""
     parts = str(text).split(":")
     try:
         if len(parts) == 1:
-            return np.array([float(parts[0])])
-        if len(parts) == 3:
+            lo = hi = float(parts[0])
+            n = 1
+        elif len(parts) == 3:
             lo, hi, n = float(parts[0]), float(parts[1]), int(parts[2])
             if n < 1:
                 raise ValueError
-            return np.linspace(lo, hi, n)
+        else:
+            raise ValueError
     except ValueError:
-        pass
-    raise ValueError(f"--{name} must be a number or lo:hi:n (n >= 1 integer); got {text!r}")
+        raise ValueError(f"--{name} must be a number or lo:hi:n (n >= 1 integer); got {text!r}") from None
+    for v in (lo, hi):
+        if not np.isfinite(v):
+            raise ValueError(f"--{name} must be finite, got {text!r}")
+        if name in _MINIMUM and v < _MINIMUM[name][0]:
+            raise ValueError(f"--{name} must be >= {_MINIMUM[name][0]:g} ({_MINIMUM[name][1]} cannot be negative), "
+                             f"got {text!r}")
+    return lo, hi, n
+
+
+def _parse_values(text, name):
+    """Parse ``value`` or ``lo:hi:n`` into a 1-D float array."""
+    lo, hi, n = _parse_spec(text, name)
+    return np.linspace(lo, hi, n)
 
 
 def _evaluate(solute, s, t, p):
     """One row: dict with values, flags and validity."""
     row = {"salinity": float(s), "temperature_C": None if t is None else float(t),
            "pressure_MPa": float(p)}
+    freeze_error = None
     try:
         tf, fflags = freezing_point(solute, s, p, return_flags=True, warn=False)
         row["freezing_point_C"] = float(tf)
-    except ValueError:
-        tf, fflags = None, 0
+    except ValueError as exc:
+        tf, fflags, freeze_error = None, 0, str(exc)
         row["freezing_point_C"] = None
     try:
         if t is None:
             if tf is None:
-                raise ValueError("no --temperature given and no freezing point defined at this "
-                                 "salinity (above the eutectic); give --temperature")
+                raise ValueError(f"no freezing point: {freeze_error}; without --temperature the conductivity is "
+                                 "evaluated at the freezing point, so give --temperature")
             t = float(tf)
             row["temperature_C"] = t
         k, flags = conductivity(solute, s, t, p, return_flags=True, warn=False)
@@ -135,32 +152,34 @@ def _print_table(rec, rows):
 
 
 def _write_csv(path, rec, rows):
-    """Write the table to ``path`` (via a temporary file in the same folder, then os.replace)."""
-    folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(prefix=".brine-", suffix=".csv.tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", newline="") as fh:
-            fh.write(f"# induct {__version__} brine; solute={rec.name}; "
-                     f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
-                     f"rows={len(rows)}\n")
-            fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _units(rec).items()) + "\n")
-            w = csv.writer(fh)
-            w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
-                        "freezing_point_C", "extrapolated", "flags", "error"])
-            for r in rows:
-                w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
-                            "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
-                            "" if r["freezing_point_C"] is None else r["freezing_point_C"],
-                            int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    """Write the table to ``path`` (atomically, through :mod:`induct.io.files`)."""
+    from induct.io.files import atomic_open
+
+    with atomic_open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(f"# induct {__version__} brine; solute={rec.name}; "
+                 f"created {datetime.datetime.now(datetime.timezone.utc).isoformat(timespec='seconds')}; "
+                 f"rows={len(rows)}\n")
+        fh.write("# units: " + "; ".join(f"{k} [{v}]" for k, v in _units(rec).items()) + "\n")
+        w = csv.writer(fh)
+        w.writerow(["salinity", "temperature_C", "pressure_MPa", "conductivity_S_per_m",
+                    "freezing_point_C", "extrapolated", "flags", "error"])
+        for r in rows:
+            w.writerow([r["salinity"], r["temperature_C"], r["pressure_MPa"],
+                        "" if r["conductivity_S_per_m"] is None else r["conductivity_S_per_m"],
+                        "" if r["freezing_point_C"] is None else r["freezing_point_C"],
+                        int(r["extrapolated"]), "|".join(r["flags"]), r["error"] or ""])
 
 
 def run(args):
     """Execute ``induct brine``; returns the exit code."""
+    from induct.cli.budget import check_job
+
+    specs = [_parse_spec(args.salinity, "salinity"), _parse_spec(args.pressure, "pressure")]
+    if args.temperature is not None:
+        specs.append(_parse_spec(args.temperature, "temperature"))
+    rows_n = int(np.prod([float(n) for _, _, n in specs]))
+    # each row: a dict of ~10 Python objects (~1.5 kB), its CSV/JSON text (~0.3 kB); 1e4 rows/s
+    check_job(args, f"brine table of {rows_n:.3g} rows", rows_n * 2000.0, seconds=rows_n / 1e4)
     sal = _parse_values(args.salinity, "salinity")
     temps = [None] if args.temperature is None else list(_parse_values(args.temperature, "temperature"))
     pres = _parse_values(args.pressure, "pressure")
@@ -185,4 +204,10 @@ def run(args):
         print(json.dumps({"solute": solute, "units": _units(rec), "rows": rows}, indent=2))
     else:
         _print_table(rec, rows)
-    return 0 if any(r["valid"] for r in rows) else 2
+    if not any(r["valid"] for r in rows):
+        import sys
+
+        print(f"induct brine: error: no valid row in the table (first: {' '.join(rows[0]['error'].split())})",
+              file=sys.stderr)
+        return 2
+    return 0

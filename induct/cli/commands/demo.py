@@ -22,7 +22,7 @@ def register(subparsers):
 def run(args) -> int:
     from induct.cli.demo import LIMITS, run_demo
 
-    steps, report = run_demo(args.out, fast=args.fast, progress=not args.no_progress)
+    steps, report = run_demo(args.out, fast=args.fast, progress=not (args.no_progress or args.quiet))
     first = steps[0].output.strip().splitlines()
     print("\n".join(first))
     print()

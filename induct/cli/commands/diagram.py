@@ -76,6 +76,15 @@ def run(args) -> int:
     if periods is None or len(periods) == 0:
         raise ValueError("no periods: give --period-h, --data or [drive] periods_h in the scenario")
     first, second = _families(args, model)
+    from induct.cli.budget import check_job, model_seconds
+
+    if not 2 <= args.samples:
+        raise ValueError(f"--samples must be >= 2, got {args.samples}")
+    points = float(args.samples) * (first.n + second.n) * len(periods)
+    layers = len(model.layers) + 64
+    # each curve point: R_n (complex), its CSV row (~200 B) and the kernel temporaries of one curve
+    check_job(args, f"diagram of {points:.3g} curve points", points * 260.0 + args.samples * layers * 16.0 * 30,
+              seconds=model_seconds(points, 1, len(model.layers)))
     result = amplitude_phase_diagram(model, first, second, periods, degree=args.degree, samples=args.samples)
     prefix = Path(args.out)
     prefix.parent.mkdir(parents=True, exist_ok=True)

@@ -211,6 +211,20 @@ def run(args) -> int:
 
     if args.append and not args.write_scenario:
         raise ValueError("--append needs --write-scenario")
+    from induct.cli.budget import check_job, csv_rows_estimate
+
+    if not 4 <= args.samples <= 1_000_000:
+        raise ValueError(f"--samples must be between 4 and 1000000, got {args.samples}")
+    for name in ("max_harmonic", "max_orbital"):
+        if not 0 <= getattr(args, name) <= 1000:
+            raise ValueError(f"--{name.replace('_', '-')} must be between 0 and 1000, got {getattr(args, name)}")
+    if args.periods_h and len(args.periods_h) > 10_000:
+        raise ValueError(f"--periods-h: at most 10000 periods, got {len(args.periods_h)}")
+    rows, size = csv_rows_estimate(args.series) if args.series else (0.0, 0.0)
+    fit_cols = 2 * len(args.periods_h or []) + 1
+    # series text, parsed values, and the least-squares design matrix (rows x fit columns)
+    check_job(args, f"driving-field analysis of about {rows:.3g} series rows", 2 * size + rows * (300.0 + 8 * 3 * fit_cols)
+              + 8.0 * args.samples * 3 * 200)
     analysis = analyse(args)
     result = result_dict(analysis)
     if args.json == "-":

@@ -58,7 +58,7 @@ def _g(value) -> str:
 def run(args) -> int:
     from induct.flyby.magfit import fit_responses
     from induct.io.files import write_text
-    from induct.io.measurements import load_measurements
+    from induct.io.measurements import parse_measurements
     from induct.io.scenario import load_scenario
     from induct.io.tracks import read_residual_tracks
 
@@ -66,8 +66,13 @@ def run(args) -> int:
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
     if args.include_undetermined and not args.toml:
         raise ValueError("--include-undetermined needs --toml")
+    from induct.cli.budget import check_job, csv_rows_estimate
+
     scenario = load_scenario(args.scenario)
     lines = scenario.drive_lines
+    rows, size = csv_rows_estimate(list(args.data))
+    # file text, parsed rows, and the design matrix (3 rows per point x 2 columns per line, 3 copies in the solve)
+    check_job(args, f"response fit to about {rows:.3g} residual rows", 2 * size + rows * (500.0 + 3 * 2 * 8.0 * 3 * max(len(lines), 1)))
     if not lines:
         raise ValueError(
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
@@ -97,8 +102,10 @@ def run(args) -> int:
                     if math.isfinite(fit.condition_number) else "inf", "chi2": float(fit.chi2), "n_data": fit.n_data},
             include_undetermined=args.include_undetermined,
         )
+        import tomllib
+
+        back = parse_measurements(tomllib.loads(text), args.toml)  # what invert will read
         write_text(args.toml, text)
-        back = load_measurements(args.toml)  # what invert will read
         result["toml"] = {"file": args.toml, "entries": back.n_entries}
     if args.json:
         json.dump(result, sys.stdout, indent=2)

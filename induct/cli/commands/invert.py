@@ -66,10 +66,15 @@ def run(args) -> int:
         raise ValueError(f"--grid must be >= 2 points per axis, got {args.grid}")
     if args.list < 0:
         raise ValueError(f"--list must be >= 0, got {args.list}")
+    for name in ("steps", "walkers"):
+        value = getattr(args, name)
+        if value is not None and value < 1:
+            raise ValueError(f"--{name} must be >= 1, got {value}")
+    _check_size(args, scenario.model, data, params)
     with backend_for(args) as backend:
         result = invert(
             scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
-            cap=max(args.list, DEFAULT_LIST_CAP), progress=not args.no_progress and not args.json,
+            cap=max(args.list, DEFAULT_LIST_CAP), progress=not (args.no_progress or args.quiet or args.json),
             steps=args.steps, walkers=args.walkers, seed=args.seed,
             backend=backend, chunk_size=args.task_size,
         )
@@ -90,6 +95,31 @@ def run(args) -> int:
     for w in written:
         print(f"wrote {w}")
     return 0
+
+
+def _check_size(args, model, data, params) -> None:
+    """Refuse an inversion above the memory limit and say how long a long one takes (before allocating)."""
+    from induct.cli.budget import check_job, model_seconds
+    from induct.inversion.grid import DEFAULT_GRID_POINTS
+
+    k, m, layers = len(params), data.n_entries, len(model.layers)
+    layers_eff = layers + (64 if any(p.field in ("salinity_g_per_kg", "temperature_C") for p in params) else 0)
+    grid = args.sampler == "grid" or (args.sampler == "auto" and k <= 4)
+    n = args.grid or (DEFAULT_GRID_POINTS if grid else 40)
+    if grid:
+        cells = float(n) ** k
+        # pair maps (3 copies while merging), the per-task forward model (~30 complex temporaries per layer)
+        # and the kept chi-square values of one task
+        nbytes = 3 * 8.0 * (k * (k - 1) / 2) * n * n + min(float(args.task_size), cells) * (m * layers_eff * 16 * 30 + 64)
+        check_job(args, f"inversion grid of {n}^{k} = {cells:.3g} cells at {m} periods", nbytes,
+                  seconds=model_seconds(cells, m, layers_eff))
+    else:
+        walkers = args.walkers or max(32, 4 * k)
+        steps = args.steps or 4000
+        samples = float(walkers) * steps
+        nbytes = samples * (k + 2) * 8.0 * 4 + 3 * 8.0 * (k * (k - 1) / 2) * n * n
+        check_job(args, f"MCMC of {walkers} walkers x {steps} steps at {m} periods", nbytes,
+                  seconds=model_seconds(samples, m, layers_eff))
 
 
 def _fmt(x: float) -> str:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import argparse
 from pathlib import Path
 
 import numpy as np
@@ -48,7 +49,7 @@ def register(subparsers):
     p.add_argument("--degree", type=int, default=1, help="degree n of the driving field (default 1; the nT quantities and --data need 1)")
     p.add_argument("--out", required=True, metavar="PREFIX", help="output prefix: writes PREFIX.png, .pdf, .nc, .csv")
     p.add_argument("--no-netcdf", action="store_true", help="do not write PREFIX.nc (no xarray/h5netcdf needed)")
-    p.add_argument("--progress", action="store_true", help="show a progress bar")
+    p.add_argument("--progress", action="store_true", help=argparse.SUPPRESS)  # the default now; --quiet hides it
     add_truth_option(p)
     add_cluster_options(p, DEFAULT_TASK_SIZE)
     return p
@@ -63,6 +64,7 @@ def run(args) -> int:
         except ImportError as exc:
             raise ValueError(f"{exc}; or pass --no-netcdf") from None
     scenario = load_scenario(args.scenario)
+    _check_size(args, scenario)
     period = args.period_h
     if period is None:
         if not len(scenario.periods_h):
@@ -78,6 +80,22 @@ def run(args) -> int:
     with backend_for(args) as backend:
         result = _compute(args, scenario, period, reference, label, measurements, backend)
     return _write(args, scenario, result, truth)
+
+
+#: Bytes held per map cell: the value, chi-square and region arrays, their CSV text and the NetCDF copy.
+BYTES_PER_CELL = 800.0
+
+
+def _check_size(args, scenario):
+    """Refuse a map larger than the memory limit, before any grid is allocated; say the time of long maps."""
+    from induct.cli.budget import check_job, model_seconds
+
+    x = parse_axis_spec(args.x, scenario.model, "--x")
+    y = parse_axis_spec(args.y, scenario.model, "--y")
+    cells = float(x.n) * float(y.n)
+    chunk = min(float(args.task_size), cells) * (len(scenario.model.layers) + 64) * 16.0 * 30
+    check_job(args, f"map of {x.n} x {y.n} = {cells:.3g} cells", cells * BYTES_PER_CELL + chunk,
+              seconds=model_seconds(cells, 1, len(scenario.model.layers)))
 
 
 def _compute(args, scenario, period, reference, label, measurements, backend):
@@ -96,7 +114,7 @@ def _compute(args, scenario, period, reference, label, measurements, backend):
         region=args.region,
         noise_nT=args.noise_nT,
         k=args.k,
-        progress=args.progress,
+        progress=not args.quiet,
         backend=backend,
         chunk_size=args.task_size,
     )

@@ -52,10 +52,20 @@ def response_columns(result, *, csv: bool = False) -> list[Column]:
 
 
 def run(args) -> int:
+    from induct.cli.budget import check_job
+    from induct.io.scenario import check_periods_h
+
+    if args.periods_h:
+        check_periods_h(args.periods_h, "--periods-h")
+    if not 1 <= args.degree <= 100:
+        raise ValueError(f"--degree must be an integer from 1 to 100, got {args.degree}")
     scenario = load_scenario(args.scenario)
     periods = args.periods_h if args.periods_h else scenario.periods_h
     if periods is None or len(periods) == 0:
         raise ValueError("no periods: give --periods-h or [drive] periods_h in the scenario")
+    layers = len(scenario.model.layers) + 64  # an ocean given by chemistry adds sub-layers
+    # per period and layer: ~30 complex temporaries in the kernel; per row of the table ~1 kB of text
+    check_job(args, f"response at {len(periods)} periods", len(periods) * (layers * 16.0 * 30 + 1000.0))
     result = scenario.model.response(periods_h=np.asarray(periods, dtype=float), degree=args.degree)
     if args.json:
         payload = {

@@ -39,21 +39,36 @@ def register(subparsers):
     return p
 
 
+#: Largest number of values of --periods-h or --altitudes-km.
+MAX_GRID = 10_000_000
+
+
 def _range(text: str, what: str, log: bool) -> np.ndarray:
     parts = text.split(":")
     try:
-        lo, hi, n = float(parts[0]), float(parts[1]), int(parts[2])
         if len(parts) != 3:
             raise IndexError
+        lo, hi, n = float(parts[0]), float(parts[1]), int(parts[2])
     except (ValueError, IndexError):
         raise ValueError(f"{what} must be lo:hi:n (e.g. 0.5:1000:200), got {text!r}") from None
+    if n > MAX_GRID:
+        raise ValueError(f"{what}: n = {n} values is more than this command handles ({MAX_GRID:g}), got {text!r}")
     if not (np.isfinite(lo) and np.isfinite(hi) and lo < hi) or n < 2 or (log and lo <= 0) or lo < 0:
         raise ValueError(f"{what} needs 0 {'<' if log else '<='} lo < hi (finite) and n >= 2, got {text!r}")
     return np.logspace(np.log10(lo), np.log10(hi), n) if log else np.linspace(lo, hi, n)
 
 
 def run(args) -> int:
+    from induct.cli.budget import check_job, model_seconds
+
     names = [args.scenario] + list(args.other)
+    n_periods = _count(args.periods_h, "--periods-h")
+    n_alt = 101 if args.altitudes_km is None else _count(args.altitudes_km, "--altitudes-km")
+    marks = len(args.mark_periods_h) if args.mark_periods_h else 3
+    values = float(len(names)) * (n_periods + marks) + float(len(names)) ** 2 * (n_periods + n_alt * marks)
+    # each value: complex R_n and field arrays, CSV rows (~150 B); kernel temporaries of one model
+    check_job(args, f"separation of {len(names)} interiors at {n_periods} periods and {n_alt} altitudes",
+              values * 200.0 + n_periods * 80 * 16.0 * 30, seconds=model_seconds(len(names) * n_periods, 1, 10))
     scenarios = [load_scenario(name) for name in names]
     labels = [Path(name).stem for name in names]
     if len(set(labels)) != len(labels):
@@ -80,6 +95,20 @@ def run(args) -> int:
     written.append(write_table_csv(prefix.with_name(prefix.name + "_summary.csv"), cols))
     print(format_separation_summary(result, cols, written))
     return 0
+
+
+def _count(text: str, what: str) -> int:
+    """The n of ``lo:hi:n`` (checked as in :func:`_range`, without allocating)."""
+    parts = str(text).split(":")
+    try:
+        n = int(parts[2]) if len(parts) == 3 else -1
+    except ValueError:
+        n = -1
+    if n < 0:
+        raise ValueError(f"{what} must be lo:hi:n (e.g. 0.5:1000:200), got {text!r}")
+    if n > MAX_GRID:
+        raise ValueError(f"{what}: n = {n} values is more than this command handles ({MAX_GRID:g}), got {text!r}")
+    return n
 
 
 def separation_columns(result) -> list[Column]:
