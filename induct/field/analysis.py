@@ -51,6 +51,9 @@ class DriveAnalysis:
         Names, for lines computed from a planet file.
     sense : str or None
         ``"prograde"`` or ``"retrograde"`` orbit, for lines computed from a planet file.
+    epoch_utc : str or None
+        UTC of ``t = 0`` (the planet file's ``[planet] epoch_utc``, or given with a series);
+        None when unknown.
     """
 
     spectrum: object
@@ -60,13 +63,15 @@ class DriveAnalysis:
     planet: str | None = None
     moon: str | None = None
     sense: str | None = None
+    epoch_utc: str | None = None
 
     @property
     def info(self) -> dict:
-        """Where the lines come from: ``source``, ``planet``, ``moon`` (and ``sense`` for a planet file)."""
+        """Where the lines come from: ``source``, ``planet``, ``moon`` (and ``sense`` for a planet file), ``epoch_utc``."""
         out = {"source": self.source, "planet": self.planet, "moon": self.moon}
         if self.planet is not None:
             out["sense"] = self.sense
+        out["epoch_utc"] = self.epoch_utc
         return out
 
 
@@ -121,7 +126,7 @@ def planet_drive_analysis(
     t = np.linspace(0.0, 2.0 * orbit.period_s, int(series_points))
     b = primary_field_series(system.planet, orbit, t)
     return DriveAnalysis(spec, t, b, str(system.source), system.planet.name, name,
-                         "retrograde" if orbit.retrograde else "prograde")
+                         "retrograde" if orbit.retrograde else "prograde", getattr(system, "epoch_utc", None))
 
 
 def series_drive_analysis(

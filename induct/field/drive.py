@@ -31,6 +31,7 @@ Planet files (format 1, TOML)
     rotation_period_h = 10.6
     gm_km3_per_s2 = 1.0e8           # optional if every moon gives orbital_period_h
     prime_meridian_deg = 0.0        # optional: inertial longitude of longitude 0 at t = 0
+    epoch_utc = "2031-03-10T00:00:00"  # optional: UTC of t = 0 (checked by induct.io.drive_files)
 
     [dipole]                        # optional: centred or offset tilted dipole
     B0_nT = 2.5e5                   # equatorial surface field (or moment_A_m2)
@@ -246,11 +247,15 @@ class PlanetSystem:
         In file order.
     source : str
         Where it came from (file name or "<table>").
+    epoch_utc : str or None
+        ``[planet] epoch_utc``: UTC of ``t = 0`` (the time origin of the orbits, the prime
+        meridian and the driving-line phases), if the file gives it.
     """
 
     planet: Planet
     moons: dict
     source: str = "<table>"
+    epoch_utc: str | None = None
 
     def orbit(self, moon: str | None = None) -> tuple[str, KeplerOrbit]:
         """(name, orbit) of the named moon, or of the only moon when ``moon`` is None."""
@@ -404,7 +409,11 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
     p = data.get("planet")
     if not isinstance(p, dict):
         raise ValueError("planet: missing [planet] table")
-    _check_keys(p, {"name", "radius_km", "rotation_period_h", "gm_km3_per_s2", "prime_meridian_deg"}, "planet")
+    _check_keys(p, {"name", "radius_km", "rotation_period_h", "gm_km3_per_s2", "prime_meridian_deg", "epoch_utc"},
+                "planet")
+    epoch = p.get("epoch_utc")
+    if epoch is not None and not isinstance(epoch, str):
+        raise ValueError(f'planet.epoch_utc must be a string "YYYY-MM-DDTHH:MM:SS" (UTC), got {epoch!r}')
     name = p.get("name", "planet")
     if not isinstance(name, str):
         raise ValueError("planet.name must be a string")
@@ -425,7 +434,7 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
         if moon_name in moons:
             raise ValueError(f"moon[{i}].name: {moon_name!r} appears twice")
         moons[moon_name] = orbit
-    return PlanetSystem(planet, moons, source)
+    return PlanetSystem(planet, moons, source, epoch)
 
 
 def planet_drive_spectrum(

@@ -8,7 +8,9 @@ Examples::
 
 Components are in the flow frame (x along the corotation flow, y toward the
 planet's spin axis, z along it); ``B(t) = amplitude cos(2 pi t / period + phase)``
-with t in seconds from the epoch of the planet file or series.
+with t in seconds from the epoch of the planet file or series. The epoch's UTC
+(``[planet] epoch_utc`` of the planet file, or --epoch-utc) is printed and written
+with --write-scenario as ``[drive] epoch_utc``.
 """
 
 from __future__ import annotations
@@ -47,6 +49,9 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--write-scenario", metavar="SCENARIO.toml",
                    help="write the lines into the scenario's [[drive.lines]] tables (replacing existing ones)")
     p.add_argument("--append", action="store_true", help="with --write-scenario: keep existing lines")
+    p.add_argument("--epoch-utc", metavar="YYYY-MM-DDTHH:MM:SS",
+                   help="UTC of t = 0 of the planet file or series (when the planet file has no [planet] epoch_utc; "
+                   "must agree with it otherwise); written to the scenario as [drive] epoch_utc")
     return p
 
 
@@ -116,6 +121,8 @@ def format_drive_table(analysis) -> str:
         sense = f" ({info['sense']})" if info.get("sense") else ""
         out.append(f"Periods: rotation {refs['rotation'] / 3600:.6g} h, orbit {refs['orbital'] / 3600:.6g} h{sense}, "
                    f"synodic {refs['synodic'] / 3600:.6g} h")
+    epoch = info.get("epoch_utc")
+    out.append(f"Epoch (t = 0): {epoch} UTC" if epoch else "Epoch (t = 0): not given (no [planet] epoch_utc or --epoch-utc)")
     out.append("Mean field (nT): " + ", ".join(f"B{c} = {v:.4g}" for c, v in zip("xyz", spec.mean_nT)))
     head = (f"{'line':<16} {'period_h':>10} {'|Bx|_nT':>10} {'|By|_nT':>10} {'|Bz|_nT':>10} "
             f"{'phx_deg':>8} {'phy_deg':>8} {'phz_deg':>8} {'var_frac':>9}")
@@ -136,9 +143,19 @@ def run(args) -> int:
     from induct.io.files import write_text
     from induct.plot.drive import plot_drive
 
+    from induct.io.timescales import check_epoch_utc
+
     if args.append and not args.write_scenario:
         raise ValueError("--append needs --write-scenario")
+    epoch = check_epoch_utc(args.epoch_utc, "--epoch-utc") if args.epoch_utc is not None else None
     analysis = analyse(args)
+    if epoch is not None:
+        if analysis.epoch_utc is not None and analysis.epoch_utc != epoch:
+            raise ValueError(
+                f"--epoch-utc {epoch} differs from [planet] epoch_utc = {analysis.epoch_utc} of {analysis.source}; "
+                "the lines' phases refer to the file's epoch"
+            )
+        analysis.epoch_utc = epoch
     result = result_dict(analysis)
     if args.json == "-":
         json.dump(result, sys.stdout, indent=2)
@@ -157,7 +174,8 @@ def run(args) -> int:
         comment = f"written by induct {__version__} drive from {analysis.source}"
         if analysis.moon:
             comment += f" (moon {analysis.moon})"
-        write_drive_lines(args.write_scenario, lines, append=args.append, comment=comment)
+        write_drive_lines(args.write_scenario, lines, append=args.append, comment=comment,
+                          epoch_utc=analysis.epoch_utc)
         if args.json != "-":
             print(f"{len(lines)} driving lines written to {args.write_scenario}")
     return 0
