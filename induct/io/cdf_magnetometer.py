@@ -45,6 +45,7 @@ from pathlib import Path
 
 import numpy as np
 
+from induct.constants import MODEL_LIMITS as _MODEL_LIMITS
 from induct.io import timescales
 
 __all__ = [
@@ -61,12 +62,14 @@ __all__ = [
 
 _IMPORT_MESSAGE = "this needs cdflib: pip install 'induct[cdf]'"
 
-#: What the model behind a prediction leaves out (written to the TEXT global attribute).
-MODEL_LIMITS = (
-    "Model prediction by induct: quasi-static electromagnetic induction in a spherically symmetric "
-    "layered moon driven by the parent planet's time-varying field. Not included: plasma-interaction "
-    "fields, asymmetric (non-spherical) shells, motional induction, the steady background field. "
-    "Frame: moon-centred flow frame (x along corotation, y toward the planet's spin axis, z along it)."
+#: What the model behind a prediction leaves out (the project's one sentence; written to the TEXT global attribute).
+MODEL_LIMITS = _MODEL_LIMITS
+
+#: What a prediction file holds (written to TEXT before :data:`MODEL_LIMITS`).
+_DESCRIPTION = (
+    "Model prediction by induct: quasi-static electromagnetic induction in a layered moon driven by the parent "
+    "planet's time-varying field; the steady background field is not included. Frame: moon-centred flow frame "
+    "(x along corotation, y toward the planet's spin axis, z along it)."
 )
 
 _EPOCH_TYPES = {31: "CDF_EPOCH", 32: "CDF_EPOCH16", 33: "CDF_TIME_TT2000"}
@@ -623,7 +626,7 @@ def write_prediction_cdf(
         arrays[name] = arr
     utc0 = timescales.tdb_to_utc(float(tdb[0]), digits=0, constants=constants)
     logical_source = f"{_short(source_name)}_{_short(data_type)}_{_short(descriptor)}"
-    lines = [MODEL_LIMITS] + [" ".join(str(x).split()) for x in text]
+    lines = [_DESCRIPTION, MODEL_LIMITS] + [" ".join(str(x).split()) for x in text]
     if epoch_utc is not None:
         lines.append(f"Time origin of the model's t_s: {epoch_utc} UTC.")
     globals_ = {

@@ -405,12 +405,15 @@ def write_csv(path, columns: dict, comments=()) -> None:
     ----------
     path : str or Path
     columns : dict of str -> array_like, shape (N,)
-        In output order; numbers written with 12 significant digits.
+        In output order; numbers written with 12 significant digits, string columns
+        (e.g. ``utc``) as they are (no commas).
     comments : sequence of str
         One ``# ...`` line each.
     """
     names = list(columns)
-    arrays = [np.asarray(columns[n], dtype=float) for n in names]
+    arrays = [np.asarray(columns[n]) for n in names]
+    text_cols = [a.dtype.kind in "USO" for a in arrays]
+    arrays = [a.astype(str) if t else a.astype(float) for a, t in zip(arrays, text_cols)]
     n = arrays[0].size if arrays else 0
     from induct.io.files import atomic_open
 
@@ -418,8 +421,11 @@ def write_csv(path, columns: dict, comments=()) -> None:
         for text in comments:
             handle.write("# " + " ".join(str(text).split()) + "\n")
         handle.write(",".join(names) + "\n")
-        if n:
+        if n and not any(text_cols):
             np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+        elif n:
+            cells = [a.tolist() if t else [f"{v:.12g}" for v in a.tolist()] for a, t in zip(arrays, text_cols)]
+            handle.write("\n".join(",".join(row) for row in zip(*cells)) + "\n")
 
 
 def read_field_series(path) -> tuple[np.ndarray, np.ndarray]:
