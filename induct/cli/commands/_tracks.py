@@ -13,6 +13,7 @@ Without the optional extras the options stop with one line naming the extra to i
 
 from __future__ import annotations
 
+import dataclasses
 import importlib
 import os
 from dataclasses import dataclass, field
@@ -87,8 +88,8 @@ def time_constants(args):
 
     path = getattr(args, "lsk", None)
     if path:
-        c = read_lsk(path)
-        return c, f"leap-seconds kernel {path}"
+        c = dataclasses.replace(read_lsk(path), source=f"leap-seconds kernel {path}")
+        return c, c.source
     return None, default_constants().source
 
 
