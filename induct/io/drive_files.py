@@ -9,6 +9,7 @@ import json
 import os
 import re
 import tomllib
+import warnings
 from pathlib import Path
 
 from induct.field.drive import PlanetSystem, parse_drive_lines, parse_planet_table
@@ -146,6 +147,9 @@ def write_drive_lines(path, lines, *, append: bool = False, comment: str = "", e
             f"{path}: [drive] epoch_utc is {old_epoch!r} but the new lines refer to {epoch_utc!r}; lines with "
             "different epochs cannot be appended (their phases refer to different t = 0)"
         )
+    if epoch_utc is None and old_epoch is not None and not append:
+        warnings.warn(f"{path}: [drive] epoch_utc = {old_epoch} removed: the new driving lines have no known epoch",
+                      stacklevel=2)
     if epoch_utc is not _UNSET:
         text = _set_drive_epoch(text, epoch_utc)
     want_epoch = old_epoch if epoch_utc is _UNSET else epoch_utc

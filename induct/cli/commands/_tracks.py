@@ -66,7 +66,7 @@ def add_track_options(parser, *, group_title: str = "track from SPICE kernels (i
     g.add_argument("--step-s", type=float, metavar="S", help="with --spice: sampling step (s)")
     g.add_argument("--spin-axis", metavar="RA_DEG,DEC_DEG",
                    help="with --spice: the planet's spin axis (J2000, deg) when the kernels hold no "
-                   "BODYnnn_POLE_RA/POLE_DEC")
+                   "BODYnnn_POLE_RA/POLE_DEC (write --spin-axis=-RA,DEC for a negative first value)")
     parser.add_argument("--lsk", metavar="FILE",
                         help="leap-seconds kernel (SPICE LSK text file) for UTC conversions; default: the table "
                         "shipped with induct (IERS Bulletin C, TAI-UTC = 37 s from 2017-01-01)")
@@ -165,7 +165,8 @@ def track_from_args(args, scenario, *, frame=None):
             raise ValueError(f"--frame {frame}: a track from --spice is in the flow frame")
         st = spice_track_from_args(args, scenario)
         source = "SPICE (" + ", ".join(os.path.basename(k) for k in st.kernels) + ")"
-        note = f"t_s: TDB seconds from the epoch {st.epoch_utc} UTC; leap seconds: {st.leapseconds_source}"
+        leap = st.leapseconds_source + (f" (--lsk {args.lsk} loaded last)" if getattr(args, "lsk", None) else "")
+        note = f"t_s: TDB seconds from the epoch {st.epoch_utc} UTC; leap seconds: {leap}"
         track = Track(st.times_s, st.positions_km, "flow", {}, source, None, st.utc, note)
         notes = [c for c in st.comments() if not c.startswith(("t_s:", "geometry only", "leap seconds"))]
         return track, notes + [note]
