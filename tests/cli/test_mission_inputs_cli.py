@@ -109,6 +109,13 @@ def test_flyby_spice_equals_csv_track_and_closed_form(tmp_path, capsys, kernels)
         assert code == 0, err
     a, b = cdflib.CDF(str(tmp_path / "spice.cdf")), cdflib.CDF(str(tmp_path / "file.cdf"))
     assert np.array_equal(a.varget("Epoch"), b.varget("Epoch"))
+    # ISTP attributes (ISTP/IACG guidelines; common practice) and the project's model-limits sentence.
+    from induct.constants import MODEL_LIMITS
+
+    attrs = a.varattsget("B_induced")
+    assert attrs["DEPEND_0"] == "Epoch" and attrs["UNITS"] == "nT" and attrs["LABL_PTR_1"] == "label_B"
+    assert a.varinq("Epoch").Data_Type_Description == "CDF_TIME_TT2000"
+    assert MODEL_LIMITS in a.globalattsget()["TEXT"]
     dpos = np.abs(a.varget("Position") - b.varget("Position")).max()
     assert dpos <= 1e-9, f"SPICE vs CSV track: worst position difference {dpos:.3g} km (tolerance 1e-9 km)"
     for var in ("B_induced", "B_primary", "B_total"):
