@@ -178,7 +178,7 @@ def _fast_table(rows, width):
 
 
 def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | None = None, constants=None,
-               epoch_from: str | None = None) -> Track:
+               epoch_from: str | None = None, positions: bool = True) -> Track:
     """Read and check a trajectory CSV file (format in the module docstring).
 
     Parameters
@@ -197,6 +197,9 @@ def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | N
         Leap-second table (default: the one shipped with induct).
     epoch_from : str, optional
         Where ``epoch_utc`` comes from (e.g. the scenario file), for messages.
+    positions : bool
+        False: the file must not have ``x_km,y_km,z_km`` (positions come from elsewhere, e.g. SPICE
+        kernels); ``positions_km`` is then NaN.
 
     Returns
     -------
@@ -232,7 +235,13 @@ def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | N
         raise ValueError(f"{source}: line {header_line}: column(s) {', '.join(dup)} appear more than once in the header")
     time_col = next((c for c in TIME_COLUMNS if c in header), "t_s")
     numeric_times = [c for c in ("t_s", "tdb_s") if c in header]
-    needed = numeric_times + list(TRACK_COLUMNS[1:]) + [c for c in columns if c not in TRACK_COLUMNS]
+    pos_cols = list(TRACK_COLUMNS[1:]) if positions else []
+    if not positions and any(c in header for c in TRACK_COLUMNS[1:]):
+        raise ValueError(
+            f"{source}: line {header_line}: the file has position columns, but the positions come from elsewhere "
+            "(SPICE kernels); drop x_km,y_km,z_km or the --spice options"
+        )
+    needed = numeric_times + pos_cols + [c for c in columns if c not in TRACK_COLUMNS]
     missing = [c for c in needed[len(numeric_times):] if c not in header]
     if time_col not in header:
         missing.insert(0, "t_s")
@@ -321,7 +330,10 @@ def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | N
             f"{(str(utc[i - 1]) if time_col == 'utc' else float(data.get(time_col, t)[i - 1]))!r}; times must increase "
             "strictly (no duplicates, in time order)"
         )
-    pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
+    if positions:
+        pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
+    else:
+        pos = np.full((t.size, 3), np.nan)
     extra = {c: data[c] for c in needed if c not in TRACK_COLUMNS and c != "tdb_s"}
     return Track(t, to_flow_frame(pos, use_frame), use_frame, extra, source, np.array(lines), utc, note)
 

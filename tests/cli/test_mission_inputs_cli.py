@@ -402,3 +402,51 @@ def test_fit_without_cdflib_names_the_extra(tmp_path, capsys, monkeypatch):
     code, _, err = run(capsys, ["fit", scenario_with_epoch(tmp_path), "--data", tmp_path / "x.cdf", "--noise-nT", "0.5",
                                 "--field-variable", "B", "--position-variable", "R"])
     one_line_error(code, err, "pip install 'induct[cdf]'", "cdflib")
+
+
+# --------------------------------------------------------------------------- fit with positions from SPICE
+def test_fit_with_positions_from_spice(tmp_path, capsys, kernels):
+    pytest.importorskip("cdflib")
+    from induct.io.cdf_magnetometer import write_prediction_cdf
+    from induct.io.spice_track import spice_track
+
+    scenario = scenario_with_epoch(tmp_path, lines=1)
+    st = spice_track(kernels, -9900, 9101, 9100, START, STOP, 10.0, epoch_utc=EPOCH)
+    st.to_csv(tmp_path / "track.csv")
+    code, _, err = run(capsys, ["flyby", scenario, "--trajectory", tmp_path / "track.csv", "--out", tmp_path / "f.csv",
+                                "--noise-nT", "0.5", "--residuals", tmp_path / "res.csv"])
+    assert code == 0, err
+    res = read_table(tmp_path / "res.csv")
+    b = np.column_stack([res[c] for c in ("bx_nT", "by_nT", "bz_nT")])
+    full = tmp_path / "full.csv"  # the same samples with the SPICE positions at full precision
+    full.write_text("t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT\n" + "".join(
+        ",".join(repr(float(v)) for v in (st.times_s[k], *st.positions_km[k], *b[k])) + "\n" for k in range(st.size)))
+    bare = tmp_path / "bare.csv"  # no positions: they come from the kernels
+    bare.write_text("utc,bx_nT,by_nT,bz_nT\n" + "".join(
+        f"{st.utc[k]}," + ",".join(repr(float(v)) for v in b[k]) + "\n" for k in range(st.size)))
+    write_prediction_cdf(tmp_path / "b.cdf", st.times_s, np.full((st.size, 3), 2000.0), {"B_res": b}, epoch_utc=EPOCH)
+    body = ["--spice", *kernels, "--spacecraft", "PROBE", "--moon", "ILMARE", "--planet", "TARVOS"]
+    runs = {
+        "file": ["--data", full],
+        "spice_csv": ["--data", bare, *body],
+        "spice_cdf": ["--data", tmp_path / "b.cdf", "--field-variable", "B_res", *body],
+    }
+    fits = {}
+    for key, extra in runs.items():
+        code, out, err = run(capsys, ["fit", scenario, "--noise-nT", "0.5", "--json", *extra])
+        assert code == 0, err
+        fits[key] = json.loads(out)
+    # Sample times rebuilt from UTC labels (rounded to 1 us) or TT2000 (1 ns) and the epoch: positions agree to
+    # ~6 km/s x 0.5 us = 3e-6 km, fields to ~5e-9 relative, and the fit of one pass amplifies that: tolerance
+    # 1e-7 relative (the CSV/CDF parity with identical positions is checked to 1e-12 above).
+    for key in ("spice_csv", "spice_cdf"):
+        worst = max(abs(pa[k] - pb[k]) / abs(pb[k]) for pa, pb in zip(fits[key]["response"], fits["file"]["response"])
+                    for k in ("real", "imag"))
+        assert worst <= 1e-7, f"{key}: worst relative difference from the file positions {worst:.3g} (tolerance 1e-7)"
+        assert any("PROBE (-9900)" in n for n in fits[key]["time_notes"])
+    code, _, err = run(capsys, ["fit", scenario, "--noise-nT", "0.5", "--data", full, *body])
+    one_line_error(code, err, "full.csv", "position columns")
+    code, _, err = run(capsys, ["fit", scenario, "--noise-nT", "0.5", "--data", bare, *body, "--start", START])
+    one_line_error(code, err, "--start", "--data")
+    code, _, err = run(capsys, ["fit", scenario, "--noise-nT", "0.5", "--data", bare, *body[:-2], "--planet", "NOPE"])
+    one_line_error(code, err, "bare.csv", "planet 'NOPE'")

@@ -119,20 +119,36 @@ def spice_requested(args) -> bool:
     return bool(getattr(args, "spice", None))
 
 
-def spice_track_from_args(args, scenario):
-    """The :class:`~induct.io.spice_track.SpiceTrack` the SPICE options describe (times from the scenario's epoch)."""
+def spice_track_from_args(args, scenario, tdb_s=None):
+    """The :class:`~induct.io.spice_track.SpiceTrack` the SPICE options describe (times from the scenario's epoch).
+
+    With ``tdb_s`` (TDB seconds past J2000, shape (N,)) the track is computed at those times (``fit``: the
+    sample times of the data files) and ``--start/--stop/--step-s`` must not be given.
+    """
     require("spiceypy", "--spice")
-    missing = [opt for opt, value in (("--spacecraft", args.spacecraft), ("--moon", args.spice_moon),
-                                      ("--planet", args.spice_planet), ("--start", args.start), ("--stop", args.stop),
-                                      ("--step-s", args.step_s)) if value is None]
+    bodies = (("--spacecraft", args.spacecraft), ("--moon", args.spice_moon), ("--planet", args.spice_planet))
+    grid = (("--start", args.start), ("--stop", args.stop), ("--step-s", args.step_s))
+    missing = [opt for opt, value in bodies + (grid if tdb_s is None else ()) if value is None]
     if missing:
         raise ValueError(f"--spice needs {', '.join(missing)}")
-    from induct.io.spice_track import spice_track
+    if tdb_s is not None and any(value is not None for _, value in grid):
+        raise ValueError("--start, --stop and --step-s do not apply here: the times come from the --data files")
+    from induct.io.spice_track import spice_track, spice_track_at
 
     epoch = _epoch(scenario, "a track from --spice")
     kernels = list(args.spice) + ([args.lsk] if getattr(args, "lsk", None) else [])
+    axis = _spin_axis(args.spin_axis)
+    if tdb_s is not None:
+        return spice_track_at(kernels, args.spacecraft, args.spice_moon, args.spice_planet, tdb_s,
+                              spin_axis_radec_deg=axis, epoch_utc=epoch)
     return spice_track(kernels, args.spacecraft, args.spice_moon, args.spice_planet, args.start, args.stop,
-                       args.step_s, spin_axis_radec_deg=_spin_axis(args.spin_axis), epoch_utc=epoch)
+                       args.step_s, spin_axis_radec_deg=axis, epoch_utc=epoch)
+
+
+def _spice_notes(st, args) -> list:
+    leap = st.leapseconds_source + (f" (--lsk {args.lsk} loaded last)" if getattr(args, "lsk", None) else "")
+    notes = [c for c in st.comments() if not c.startswith(("t_s:", "geometry only", "leap seconds"))]
+    return notes + [f"t_s: TDB seconds from the epoch {st.epoch_utc} UTC; SPICE leap seconds: {leap}"]
 
 
 def track_from_args(args, scenario, *, frame=None):
@@ -165,11 +181,9 @@ def track_from_args(args, scenario, *, frame=None):
             raise ValueError(f"--frame {frame}: a track from --spice is in the flow frame")
         st = spice_track_from_args(args, scenario)
         source = "SPICE (" + ", ".join(os.path.basename(k) for k in st.kernels) + ")"
-        leap = st.leapseconds_source + (f" (--lsk {args.lsk} loaded last)" if getattr(args, "lsk", None) else "")
-        note = f"t_s: TDB seconds from the epoch {st.epoch_utc} UTC; leap seconds: {leap}"
-        track = Track(st.times_s, st.positions_km, "flow", {}, source, None, st.utc, note)
-        notes = [c for c in st.comments() if not c.startswith(("t_s:", "geometry only", "leap seconds"))]
-        return track, notes + [note]
+        notes = _spice_notes(st, args)
+        track = Track(st.times_s, st.positions_km, "flow", {}, source, None, st.utc, notes[-1])
+        return track, notes
     if not trajectory:
         raise ValueError("give a track: --trajectory FILE.csv, or --spice KERNEL ... with --spacecraft, --moon, "
                          "--planet, --start, --stop, --step-s")
@@ -208,18 +222,43 @@ class Residuals:
 def residuals_from_args(args, scenario) -> Residuals:
     """Read ``--data`` files: CSV residual files and ``.cdf`` files (with ``--field-variable``/``--position-variable``).
 
-    Every point is checked against the body (radius and ionosphere sheet).
+    With the SPICE options (``--spice``, ``--spacecraft``, ``--moon``, ``--planet``; no ``--start/--stop/--step-s``)
+    the positions come from the kernels at each sample's time, and the files must hold none (CSV: no
+    ``x_km,y_km,z_km``; CDF: no ``--position-variable``). Every point is checked against the body (radius and
+    ionosphere sheet).
     """
     from induct.io.tracks import RESIDUAL_COLUMNS, Track, check_outside_model, read_track
 
     constants, leap = time_constants(args)
     where = str(scenario.path or scenario.name)
+    spice = spice_requested(args)
+    if spice:
+        require("spiceypy", "--spice")
     pos, t, b, sources, frames, dropped, notes = [], [], [], [], [], [], []
+    spice_notes = []
+
+    def positions_from_spice(times_s, tdb_s, source):
+        """Flow-frame positions (N, 3) at the samples of one data file, from the SPICE options."""
+        from induct.io.timescales import utc_to_tdb
+
+        if tdb_s is None:
+            tdb_s = np.asarray(times_s) + float(utc_to_tdb(scenario.epoch_utc, constants=constants))
+        try:
+            st = spice_track_from_args(args, scenario, tdb_s=tdb_s)
+        except ValueError as exc:
+            raise ValueError(f"{source}: positions from --spice: {exc}") from None
+        if not spice_notes:
+            spice_notes.extend(_spice_notes(st, args)[:-1])
+        return st.positions_km
+
     for name in args.data:
         if str(name).lower().endswith(".cdf"):
             require("cdflib", "--data FILE.cdf")
-            if not (args.field_variable and args.position_variable):
-                raise ValueError(f"{name}: a CDF file needs --field-variable NAME and --position-variable NAME")
+            if not args.field_variable or (not args.position_variable and not spice):
+                raise ValueError(f"{name}: a CDF file needs --field-variable NAME and --position-variable NAME "
+                                 "(or positions from --spice)")
+            if spice and args.position_variable:
+                raise ValueError(f"{name}: positions from --position-variable and from --spice; give one")
             from induct.io.cdf_magnetometer import read_magnetometer_cdf
 
             if args.frame not in (None, "flow"):
@@ -227,6 +266,9 @@ def residuals_from_args(args, scenario) -> Residuals:
             epoch = _epoch(scenario, f"CDF file {name}")
             series = read_magnetometer_cdf(name, args.field_variable, args.position_variable,
                                            frame=args.frame or "flow", epoch_utc=epoch, constants=constants)
+            if spice:
+                series = dataclasses.replace(
+                    series, positions_km=positions_from_spice(series.times_s, series.tdb_s, series.source))
             track = Track(series.times_s, series.positions_km, series.frame,
                           {c: series.field_nT[:, k] for k, c in enumerate(RESIDUAL_COLUMNS[4:])}, series.source)
             check_outside_model(track, scenario.model)
@@ -242,8 +284,13 @@ def residuals_from_args(args, scenario) -> Residuals:
             notes.append(f"{series.source}: times from {series.time_variable} ({series.epoch_type}), seconds from "
                          f"{epoch} UTC; leap seconds: {leap}")
         else:
+            if spice and args.frame not in (None, "flow"):
+                raise ValueError(f"{name}: --frame {args.frame}: with --spice the residuals must be in the flow frame")
             track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=args.frame, epoch_utc=scenario.epoch_utc,
-                               constants=constants, epoch_from=where)
+                               constants=constants, epoch_from=where, positions=not spice)
+            if spice:
+                _epoch(scenario, "a track from --spice")
+                track = dataclasses.replace(track, positions_km=positions_from_spice(track.times_s, None, track.source))
             check_outside_model(track, scenario.model)
             pos.append(track.positions_km)
             t.append(track.times_s)
@@ -252,4 +299,5 @@ def residuals_from_args(args, scenario) -> Residuals:
             frames.append(track.frame)
             if track.time_note != Track.time_note:
                 notes.append(f"{track.source}: {track.time_note}")
-    return Residuals(np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames, dropped, notes)
+    return Residuals(np.concatenate(pos), np.concatenate(t), np.concatenate(b), sources, frames, dropped,
+                     spice_notes + notes)

@@ -13,6 +13,8 @@ lines (flow frame; or --frame body); time may also be a utc or tdb_s column
 (absolute times need the scenario's [drive] epoch_utc). CDF files (.cdf) are
 read with cdflib following the ISTP conventions (--field-variable,
 --position-variable; fill and out-of-range samples dropped and counted).
+With --spice (and --spacecraft, --moon, --planet) the positions come from
+SPICE kernels at each sample's time instead of from the files.
 Linear least squares for Re and Im of
 R_1 at every [[drive.lines]] period, with the full covariance.
 """
@@ -26,7 +28,7 @@ import sys
 
 
 from induct import __version__
-from induct.cli.commands._tracks import add_cdf_options, residuals_from_args
+from induct.cli.commands._tracks import add_cdf_options, add_track_options, residuals_from_args
 
 
 def register(subparsers) -> argparse.ArgumentParser:
@@ -47,9 +49,8 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--frame", metavar="FRAME", help="frame of the files: flow (default) or body")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     add_cdf_options(p)
-    p.add_argument("--lsk", metavar="FILE",
-                   help="leap-seconds kernel (SPICE LSK text file) for UTC and CDF times; default: the table shipped "
-                   "with induct (IERS Bulletin C, TAI-UTC = 37 s from 2017-01-01)")
+    add_track_options(p, group_title="positions from SPICE kernels at the data's sample times (instead of "
+                      "positions in the --data files; no --start/--stop/--step-s)")
     p.add_argument("--toml", metavar="FILE", help="write the determined responses as a measurement file for induct invert")
     p.add_argument("--include-undetermined", action="store_true",
                    help="with --toml: also write periods that the flybys do not determine (not advised)")
