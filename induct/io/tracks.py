@@ -339,9 +339,11 @@ def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | N
 
 
 def _leap_source(constants) -> str:
-    from induct.io.timescales import _constants
+    from induct.io.timescales import TimeConstants, default_constants, read_lsk
 
-    return _constants(constants).source
+    if constants is None:
+        return default_constants().source
+    return constants.source if isinstance(constants, TimeConstants) else read_lsk(constants).source
 
 
 def _utc_seconds(utc, epoch_utc, constants, source, lines):
