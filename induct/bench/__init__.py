@@ -1,1 +1,1 @@
-"""induct.bench."""
+"""Benchmarks behind `induct bench`: measured throughput and memory, never timed tests."""

@@ -1,1 +1,1 @@
-"""induct.cli."""
+"""The command line: entry point, one module per command, text tables, the demo."""

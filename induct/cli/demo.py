@@ -4,14 +4,17 @@
 call, with the same writers and figures -- for
 
 1. the forward response table of Ilmare (as ``induct respond``);
-2. the driving spectrum of its fictional parent planet Tarvos (``induct drive``);
-3. a flyby prediction with the difference from an alternative interior (``induct flyby``);
+2. the driving spectrum of its fictional parent planet Tarvos, with and without the
+   planet's current sheet (``induct drive``);
+3. a flyby prediction with the difference from an alternative interior, and the
+   difference made by the current sheet's driving lines (``induct flyby``);
 4. feasibility maps: amplitude with the region the synthetic measurements allow,
    and the induced-field difference from the alternative with its detectability
    contour (``induct map``);
 5. an amplitude-phase diagram with the measurements (``induct diagram``);
 6. the separation of the two interiors versus period and altitude (``induct separate``);
 7. the inversion of the synthetic measurements into ranges (``induct invert``);
+8. flyby planning: candidate passes ranked by expected information, the best set chosen (``induct plan``);
 
 and writes every figure (PNG and PDF), the data files and a Markdown report
 with the numbers into one folder. The report shows, for each step, the command
@@ -125,7 +128,37 @@ def _flyby(track_path: Path, field_path: Path, figure_path: Path):
     summary = prediction.to_dict(output=str(field_path))
     write_flyby_fields(field_path, prediction, compare_label="ilmare_thick")
     written = [field_path] + plot_flyby(prediction, figure_path)
-    return format_flyby_summary(summary, field_path, None, figure_path), written
+    text = format_flyby_summary(summary, field_path, None, figure_path)
+    return text + "\n\n" + _sheet_difference(track_path), written
+
+
+# ---- current sheet: induced field with and without the sheet's driving lines (issue 15)
+def _sheet_difference(track_path: Path) -> str:
+    """Induced field along the flyby driven by Tarvos' internal field alone (scenario ilmare) and with its
+    current sheet (ilmare_sheet, same interior): the largest difference and the one at closest approach."""
+    import numpy as np
+
+    from induct.flyby.induced import induced_field
+    from induct.io.scenario import load_scenario
+    from induct.io.tracks import read_track
+
+    track = read_track(track_path)
+    pos, t = track.positions_km, track.times_s
+    internal, sheet = load_scenario("ilmare"), load_scenario("ilmare_sheet")
+    b_int = induced_field(internal.model, internal.drive_lines, pos, t)
+    b_sheet = induced_field(sheet.model, sheet.drive_lines, pos, t)
+    diff = np.linalg.norm(b_sheet - b_int, axis=1)
+    ca = int(np.argmin(np.linalg.norm(pos, axis=1)))
+    worst = int(np.argmax(diff))
+    return "\n".join([
+        "Driving lines with Tarvos' current sheet (induct flyby ilmare_sheet --trajectory "
+        f"{Path(track_path).name}) versus the internal field alone (ilmare), same interior:",
+        f"  largest |B_ind| along the pass: {np.linalg.norm(b_int, axis=1).max():.2f} nT (internal field), "
+        f"{np.linalg.norm(b_sheet, axis=1).max():.2f} nT (with the sheet)",
+        f"  |difference| of the induced field: {diff[worst]:.2f} nT at most (t = {t[worst] / 3600.0:.3f} h), "
+        f"{diff[ca]:.2f} nT at closest approach (t = {t[ca] / 3600.0:.3f} h)",
+        "  The sheet model leaves out radial currents, hinging of the sheet, the magnetopause and solar-wind lines.",
+    ])
 
 
 def _map(prefix: Path, n: int, netcdf: bool, **kwargs):
@@ -212,8 +245,28 @@ def _invert(prefix: Path, grid: int):
     return text, written
 
 
+def _plan(out: Path, argv: list):
+    """Planning step: the same candidates, noise and choice as ``argv`` (an ``induct plan`` command line)."""
+    from induct.cli.commands.plan import format_plan, plan_payload, write_plan_outputs
+    from induct.cli.main import build_parser
+    from induct.io.scenario import load_scenario
+    from induct.planning.candidates import closest_approach_summary, generate_candidates, parse_value_range
+    from induct.planning.design import plan_flybys
+
+    args = build_parser().parse_args([str(a) for a in argv])
+    sc = load_scenario("ilmare")
+    cands = generate_candidates(sc.model.radius_km, lines=sc.drive_lines, step_s=args.step_s,
+                                **{k: parse_value_range(getattr(args, k)) for k in
+                                   ("altitude_km", "lat_deg", "lon_deg", "phase_deg", "duration_s")})
+    plan = plan_flybys(sc.model, sc.drive_lines, sc.raw["invert"], cands, args.noise_nT, args.choose)
+    geometry = closest_approach_summary(cands, sc.model.radius_km, sc.drive_lines)
+    written = write_plan_outputs(plan, geometry, plan_payload(plan, geometry, sc), out, title=f"{sc.name}: flyby plan")
+    text = format_plan(plan, geometry, sc, args.list, sum(c.size for c in cands))
+    return "\n".join([text] + [f"wrote {w}" for w in written]), written
+
+
 #: Short names of the steps, in the order they run.
-STEP_KEYS = ("respond", "drive", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "invert")
+STEP_KEYS = ("respond", "drive", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "invert", "plan")
 
 
 def _steps(out: Path, fast: bool) -> list[DemoStep]:
@@ -237,7 +290,7 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
     if track.is_file():
         steps.append(
             DemoStep(
-                "Flyby prediction, baseline versus thick-shell interior",
+                "Flyby prediction, baseline versus thick-shell interior, and with the current sheet's lines",
                 ["flyby", "ilmare", "--trajectory", track, "--out", out / "flyby_field.csv",
                  "--noise-nt", DEMO_NOISE_NT, "--compare", "ilmare_thick", "--plot", out / "flyby.png"],
                 key="flyby", action=lambda: _flyby(track, out / "flyby_field.csv", out / "flyby.png"),
@@ -275,6 +328,11 @@ def _steps(out: Path, fast: bool) -> list[DemoStep]:
             key="invert", action=lambda: _invert(out / "inversion_corner", n_grid),
         ),
     ]
+    plan_argv = ["plan", "ilmare", "--altitude-km", "50,200" if fast else "50:400:4", "--lat-deg=-30,30",
+                 "--lon-deg", "90,150,210", "--phase-deg", "0:240:3" if fast else "0:300:6", "--duration-s", 3600,
+                 "--step-s", 30.0, "--noise-nT", DEMO_NOISE_NT, "--choose", 4, "--list", 8, "--out", out]
+    steps.append(DemoStep("Flyby planning: which passes teach the most about the interior", plan_argv, key="plan",
+                          action=lambda: _plan(out, plan_argv)))
     return steps
 
 

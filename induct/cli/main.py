@@ -32,6 +32,7 @@ COMMANDS = (
     "map",
     "diagram",
     "separate",
+    "plan",
     "demo",
     "bench",
 )

@@ -56,7 +56,25 @@ Planet files (format 1, TOML)
     sense = "prograde"              # or "retrograde"
     orbital_period_h = 84.7         # optional; else Kepler's third law with gm_km3_per_s2
 
+    [current_sheet]                 # optional: axisymmetric current sheet (magnetodisc)
+    inner_radius = 6.0              # planet radii
+    outer_radius = 45.0             # planet radii; optional (absent or inf: no outer edge)
+    half_thickness = 2.0            # planet radii
+    current_constant_nT = 140.0     # mu0 I0 / 2 (nT); > 0: sheet moment parallel to the dipole's
+
 A ``[dipole]`` table and ``[[gauss]]`` rows with n = 1 cannot be combined.
+
+The ``[current_sheet]`` is the washer of azimuthal current of
+:mod:`induct.field.current_sheet` (Connerney, Acuna & Ness 1981, JGR 86, 8370),
+centred on the planet's centre with its axis along the dipole moment (the
+``[dipole]`` tilt, or the degree-1 ``[[gauss]]`` rows), turning with the planet.
+Its field is added to the internal field (``planet.field`` is then a
+:class:`~induct.field.planet.SumField` of the two; :attr:`PlanetSystem.current_sheet`
+is the sheet and :meth:`PlanetSystem.without_current_sheet` the internal field
+alone). It leaves out radial currents, hinging and warping of the sheet, and the
+magnetopause and tail fields. A moon that crosses the sheet's surface
+(|z| = half_thickness) sees a field with a kink; its spectrum then decays slowly
+and :func:`planet_drive_spectrum` warns: raise ``samples``.
 """
 
 from __future__ import annotations
@@ -67,6 +85,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from induct.constants import MU0, SECONDS_PER_HOUR, METRES_PER_KM
+from induct.field.current_sheet import CurrentSheetField, axis_from_dipole, axis_from_tilt, current_sheet_from_table
 from induct.field.orbit import KeplerOrbit, flow_frame_field
 from induct.field.planet import GaussField, OffsetDipoleField, Planet, SumField, tilted_dipole_coefficients
 from induct.field.spectrum import SpectralLine, Spectrum, two_period_spectrum
@@ -243,10 +262,14 @@ class PlanetSystem:
     Attributes
     ----------
     planet : Planet
+        With the current sheet's field included in ``planet.field`` when there is one.
     moons : dict of str -> KeplerOrbit
         In file order.
     source : str
         Where it came from (file name or "<table>").
+    current_sheet : CurrentSheetField or None
+        The planet file's ``[current_sheet]``; ``planet.field`` is then
+        ``SumField((internal field, current_sheet))``.
     epoch_utc : str or None
         ``[planet] epoch_utc``: UTC of ``t = 0`` (the time origin of the orbits, the prime
         meridian and the driving-line phases), if the file gives it.
@@ -255,7 +278,37 @@ class PlanetSystem:
     planet: Planet
     moons: dict
     source: str = "<table>"
+    current_sheet: CurrentSheetField | None = None
     epoch_utc: str | None = None
+
+    def __post_init__(self):
+        if self.current_sheet is not None:
+            f = self.planet.field
+            if not (isinstance(self.current_sheet, CurrentSheetField) and isinstance(f, SumField)
+                    and len(f.parts) == 2 and f.parts[1] is self.current_sheet):
+                raise ValueError("current_sheet: planet.field must be SumField((internal field, current_sheet))")
+
+    def without_current_sheet(self) -> "PlanetSystem":
+        """The same system with the planet's internal field only (itself when there is no sheet).
+
+        Returns
+        -------
+        PlanetSystem
+
+        Examples
+        --------
+        >>> from importlib import resources
+        >>> from induct.io.drive_files import read_planet_file
+        >>> system = read_planet_file(resources.files("induct.scenarios") / "tarvos.toml")
+        >>> system.current_sheet is not None, system.without_current_sheet().current_sheet
+        (True, None)
+        """
+        if self.current_sheet is None:
+            return self
+        p = self.planet
+        internal = Planet(p.name, p.radius_m, p.rotation_period_s, p.field.parts[0], p.gm_m3_per_s2,
+                          p.prime_meridian_rad)
+        return PlanetSystem(internal, self.moons, self.source, epoch_utc=self.epoch_utc)
 
     def orbit(self, moon: str | None = None) -> tuple[str, KeplerOrbit]:
         """(name, orbit) of the named moon, or of the only moon when ``moon`` is None."""
@@ -284,7 +337,7 @@ def _positive(table, key, where, required=True, default=None):
 
 
 def _read_field(data: dict, radius_m: float):
-    parts = []
+    parts, axis = [], None
     gauss = data.get("gauss", [])
     if not isinstance(gauss, list):
         raise ValueError("gauss must be an array of tables ([[gauss]])")
@@ -327,6 +380,7 @@ def _read_field(data: dict, radius_m: float):
             raise ValueError(f"dipole.tilt_deg must be in [0, 180], got {tilt!r}")
         lon = _get(dipole, "tilt_longitude_deg", "dipole", 0.0, required=False)
         g10, g11, h11 = tilted_dipole_coefficients(b0, tilt, lon)
+        axis = axis_from_tilt(tilt, lon)
         offset = _vector3(dipole.get("offset_km", [0.0, 0.0, 0.0]), "dipole.offset_km") * METRES_PER_KM
         if np.linalg.norm(offset) >= radius_m:
             raise ValueError(f"dipole.offset_km must lie inside the planet (|offset| < {radius_m / 1e3:g} km)")
@@ -342,9 +396,11 @@ def _read_field(data: dict, radius_m: float):
         for (n, m), (_, gv, hv) in rows.items():
             g[n, m], h[n, m] = gv, hv
         parts.insert(0, GaussField(radius_m, g, h))
+        if axis is None and nmax >= 1 and (g[1, 0], g[1, 1], h[1, 1]) != (0.0, 0.0, 0.0):
+            axis = axis_from_dipole(g[1, 0], g[1, 1], h[1, 1])
     if not parts:
         raise ValueError("the planet file needs a [dipole] table or [[gauss]] rows")
-    return parts[0] if len(parts) == 1 else SumField(tuple(parts))
+    return (parts[0] if len(parts) == 1 else SumField(tuple(parts))), axis
 
 
 def _read_moon(row: dict, i: int, planet: Planet) -> tuple[str, KeplerOrbit]:
@@ -405,7 +461,7 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
     """
     if not isinstance(data, dict):
         raise ValueError("planet file: expected a table")
-    _check_keys(data, {"planet", "dipole", "gauss", "moon", "drive"}, "planet file")
+    _check_keys(data, {"planet", "dipole", "gauss", "current_sheet", "moon", "drive"}, "planet file")
     p = data.get("planet")
     if not isinstance(p, dict):
         raise ValueError("planet: missing [planet] table")
@@ -422,7 +478,15 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
     gm_km3 = _positive(p, "gm_km3_per_s2", "planet", required=False)
     gm = None if gm_km3 is None else gm_km3 * METRES_PER_KM**3
     meridian = math.radians(_get(p, "prime_meridian_deg", "planet", 0.0, required=False))
-    planet = Planet(name, radius_m, rotation_s, _read_field(data, radius_m), gm, meridian)
+    internal, axis = _read_field(data, radius_m)
+    sheet = None
+    if "current_sheet" in data:
+        if axis is None:
+            raise ValueError("current_sheet: its axis is the dipole axis; give a [dipole] table or degree-1 "
+                             "[[gauss]] rows (not all zero)")
+        sheet = current_sheet_from_table(data["current_sheet"], radius_m, axis)
+    field = internal if sheet is None else SumField((internal, sheet))
+    planet = Planet(name, radius_m, rotation_s, field, gm, meridian)
     moons_raw = data.get("moon", [])
     if isinstance(moons_raw, dict):
         moons_raw = [moons_raw]
@@ -434,7 +498,7 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
         if moon_name in moons:
             raise ValueError(f"moon[{i}].name: {moon_name!r} appears twice")
         moons[moon_name] = orbit
-    return PlanetSystem(planet, moons, source, epoch)
+    return PlanetSystem(planet, moons, source, sheet, epoch_utc=epoch)
 
 
 def planet_drive_spectrum(
@@ -446,7 +510,13 @@ def planet_drive_spectrum(
     min_amplitude_nT: float = 0.0,
     samples: int = 64,
 ) -> Spectrum:
-    """Exact line spectrum of the planet's internal field at a moon (flow frame).
+    """Exact line spectrum of the planet's field at a moon (flow frame).
+
+    The field is ``system.planet.field``: the internal field, plus the current sheet
+    when the planet file has a ``[current_sheet]`` (use
+    :meth:`PlanetSystem.without_current_sheet` for the internal field alone). The
+    spectrum is linear in the field, so the sheet's own lines are the difference of
+    the two spectra.
 
     Parameters
     ----------

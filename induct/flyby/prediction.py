@@ -197,6 +197,8 @@ def degree2_consistency_notes(lines, system, moon=None, source: str | None = Non
     gradient lines, else degree 1 and degree 2 are inconsistent: each line's
     complex amplitude is compared with the planet file's line of the same
     period (relative tolerance 1e-9 in period, 1e-3 of the largest amplitude).
+    When the planet file has a ``[current_sheet]``, lines of the internal field
+    alone (``induct drive --no-current-sheet``) match too.
 
     Parameters
     ----------
@@ -222,16 +224,25 @@ def degree2_consistency_notes(lines, system, moon=None, source: str | None = Non
     """
     from induct.field.drive import planet_drive_spectrum
 
-    spec = planet_drive_spectrum(system, moon)
     source = system.source if source is None else source
     scale = max(float(np.max(np.abs(ln.b_complex_nT))) for ln in lines)
-    for ln in lines:
-        match = [s for s in spec.lines if abs(s.period_s / ln.period_s - 1.0) < 1e-9]
-        if not match or float(np.max(np.abs(match[0].b_complex_nT - ln.b_complex_nT))) > 1e-3 * scale:
-            return [
-                f"the scenario's {ln.period_h:.6g} h line does not match {source} "
-                "(different planet, moon or epoch?): degree 1 and degree 2 may be inconsistent"
-            ]
+
+    def first_mismatch(spec):
+        for ln in lines:
+            match = [s for s in spec.lines if abs(s.period_s / ln.period_s - 1.0) < 1e-9]
+            if not match or float(np.max(np.abs(match[0].b_complex_nT - ln.b_complex_nT))) > 1e-3 * scale:
+                return ln
+        return None
+
+    bad = first_mismatch(planet_drive_spectrum(system, moon))
+    if bad is not None and getattr(system, "current_sheet", None) is not None:  # lines without the sheet
+        if first_mismatch(planet_drive_spectrum(system.without_current_sheet(), moon)) is None:
+            bad = None
+    if bad is not None:
+        return [
+            f"the scenario's {bad.period_h:.6g} h line does not match {source} "
+            "(different planet, moon or epoch?): degree 1 and degree 2 may be inconsistent"
+        ]
     return []
 
 
@@ -308,7 +319,13 @@ def predict_flyby(scenario, track, *, compare=None, planet=None, moon=None, nois
     _check_outside(track, model, scenario.name)
     notes, degree2, degree2_source = [], None, None
     if planet is not None:
-        degree2 = planet_gradient_lines(planet, moon)
+        gradient_system = planet
+        if getattr(planet, "current_sheet", None) is not None:
+            # Inside the current sheet curl B = mu0 J: the sheet's gradient is not the potential field of degree 2.
+            gradient_system = planet.without_current_sheet()
+            notes.append("degree 2 uses the planet's internal field only (the current sheet's field is not a "
+                         "potential field inside the sheet)")
+        degree2 = planet_gradient_lines(gradient_system, moon)
         degree2_source = str(planet.source)
         notes += degree2_consistency_notes(lines, planet, moon)
     pos, t = track.positions_km, track.times_s

@@ -1,1 +1,1 @@
-"""induct.inversion."""
+"""Inversion of measured responses: priors, grid posterior, samplers, posterior summaries."""

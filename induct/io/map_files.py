@@ -37,7 +37,7 @@ def require_netcdf():
     except ImportError as exc:
         raise ImportError(
             f"writing NetCDF needs the packages xarray, h5netcdf and h5py ({exc}); "
-            "install them with: pip install 'induct[netcdf]'"
+            "they are dependencies of induct: reinstall it with pip install induct"
         ) from None
     return xr, h5netcdf
 

@@ -1,1 +1,1 @@
-"""induct.parallel."""
+"""Chunked execution of large sweeps, in this process or on a Dask cluster."""

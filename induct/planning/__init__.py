@@ -1,1 +1,1 @@
-"""induct.planning."""
+"""Mission planning studies: feasibility maps, amplitude-phase diagrams, separation, flyby design."""

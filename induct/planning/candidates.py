@@ -1,4 +1,4 @@
-"""Candidate flybys for planning: reading them from a file, or generating straight or hyperbolic passes.
+"""Candidate flybys for planning: straight or hyperbolic passes generated from ranges (files: :mod:`induct.io.candidates`).
 
 A candidate is one flyby track: times (s from the epoch of the driving lines)
 and moon-centred positions (km) in the flow frame (x along the corotation
@@ -79,6 +79,7 @@ __all__ = [
     "time_of_phase_s",
     "generate_candidates",
     "parse_value_range",
+    "closest_approach_summary",
 ]
 
 #: Newtonian constant of gravitation (m^3 kg^-1 s^-2), CODATA 2018.
@@ -529,4 +530,47 @@ def generate_candidates(
                 "speed_km_s": float(v), "duration_s": float(d), "step_s": step, "inclination_deg": float(inc),
                 "trajectory": trajectory}
         out.append(Candidate(f"{prefix}{i:04d}", t, pos, info))
+    return out
+
+
+def closest_approach_summary(candidates, radius_km: float, lines=None) -> dict:
+    """Closest approach of each candidate, measured from its samples (for tables and figures).
+
+    Parameters
+    ----------
+    candidates : sequence of Candidate
+    radius_km : float
+        Radius of the moon (km).
+    lines : sequence of DriveLine, optional
+        Driving lines; with them, the phase of the main line (:func:`main_line_index`) at closest approach.
+
+    Returns
+    -------
+    dict
+        ``altitude_km``, ``lat_deg``, ``lon_deg`` (flow frame), ``t_ca_s`` and ``phase_deg`` (``360 t / T_main mod
+        360``; NaN without ``lines``): ndarrays of shape (C,), taken at the sample closest to the centre.
+
+    Examples
+    --------
+    >>> c = Candidate("A", [0.0, 10.0, 20.0], [[0.0, 2000.0, -50.0], [0.0, 2000.0, 0.0], [0.0, 2000.0, 50.0]])
+    >>> s = closest_approach_summary([c], 1540.0)
+    >>> float(s["altitude_km"][0]), float(s["lon_deg"][0]), float(s["t_ca_s"][0])
+    (460.0, 90.0, 10.0)
+    """
+    cands = list(candidates)
+    n = len(cands)
+    out = {key: np.full(n, np.nan) for key in ("altitude_km", "lat_deg", "lon_deg", "t_ca_s", "phase_deg")}
+    period = None
+    if lines is not None and list(lines):
+        lines = list(lines)
+        period = lines[main_line_index(lines)].period_s
+    for i, c in enumerate(cands):
+        t, pos = c.closest_approach()
+        r = float(np.linalg.norm(pos))
+        out["altitude_km"][i] = r - float(radius_km)
+        out["lat_deg"][i] = math.degrees(math.asin(max(-1.0, min(1.0, pos[2] / r)))) if r > 0 else 0.0
+        out["lon_deg"][i] = math.degrees(math.atan2(pos[1], pos[0])) % 360.0
+        out["t_ca_s"][i] = t
+        if period is not None:
+            out["phase_deg"][i] = (360.0 * t / period) % 360.0
     return out

@@ -367,7 +367,7 @@ def _gram_of_points(pos, t, radius_km, amps, periods):
     return gram
 
 
-def candidate_grams(model: InteriorModel, drive_lines, candidates) -> np.ndarray:
+def candidate_grams(model: InteriorModel, drive_lines, candidates, *, progress: bool = False) -> np.ndarray:
     """Unit-noise Gram matrix ``A_c^T A_c`` of each candidate's design matrix, batched over candidates.
 
     Parameters
@@ -377,6 +377,8 @@ def candidate_grams(model: InteriorModel, drive_lines, candidates) -> np.ndarray
         or the ionosphere sheet).
     drive_lines : sequence of DriveLine
     candidates : sequence of Candidate
+    progress : bool
+        Show a progress bar over the candidates (tqdm, standard error).
 
     Returns
     -------
@@ -411,12 +413,16 @@ def candidate_grams(model: InteriorModel, drive_lines, candidates) -> np.ndarray
     k2 = 2 * periods.size
     out = np.empty((len(cands), k2, k2))
     sizes = np.array([c.size for c in cands])
+    from tqdm.auto import tqdm
+
+    bar = tqdm(total=len(cands), desc="candidate flybys", unit="flyby", disable=not progress, leave=False)
     for n in np.unique(sizes):
         idx = np.flatnonzero(sizes == n)
         per = max(1, BATCH_POINTS // int(n))
         if per == 1:
             for i in idx:
                 out[i] = _gram_of_points(cands[i].positions_km, cands[i].times_s, model.radius_km, amps, periods)
+                bar.update(1)
             continue
         for start in range(0, idx.size, per):
             batch = idx[start:start + per]
@@ -424,6 +430,8 @@ def candidate_grams(model: InteriorModel, drive_lines, candidates) -> np.ndarray
             t = np.concatenate([cands[i].times_s for i in batch])
             a = design_matrix(pos, t, model.radius_km, amps, periods).reshape(batch.size, 3 * int(n), k2)
             out[batch] = np.matmul(a.transpose(0, 2, 1), a)
+            bar.update(batch.size)
+    bar.close()
     return out
 
 
@@ -979,6 +987,20 @@ class FlybyPlan:
         """Candidate indices by decreasing ``log_det`` (ties keep input order); shape (C,)."""
         return np.argsort(-self.log_det, kind="stable")
 
+    def selection_widths(self):
+        """Expected 68 % widths after the first 1, 2, ..., k chosen candidates (greedy order).
+
+        Returns
+        -------
+        physical : ndarray, shape (k, P)
+            Field units (as :func:`expected_68_widths`).
+        log10 : ndarray, shape (k, P)
+            Decades for log parameters, NaN for linear ones.
+        """
+        prefix = np.cumsum(self.fisher[self.selection_order], axis=0)
+        prec = prior_precision(self.parameters)
+        return expected_68_widths(posterior_covariance(prefix, prec), self.parameters, self.derivatives.reference_u)
+
     @property
     def selected(self) -> list:
         """Names of the chosen candidates, in the order chosen."""
@@ -995,7 +1017,8 @@ class FlybyPlan:
         Keys: ``candidates`` (best first: ``candidate``, ``log_det``, ``expected_information_gain_nats``
         (= log_det / 2), ``expected_68_width`` per parameter in
         field units, ``expected_68_width_log10`` for log parameters, ``info``), ``selected`` (names in the
-        order chosen), ``selection`` (cumulative ``log_det``, ``gain`` and the lines separable after each step),
+        order chosen), ``selection`` (cumulative ``log_det``, ``gain``, the lines separable and the expected widths
+        after each step),
         ``selected_expected_68_width`` (and ``_log10``), ``selected_log_det``,
         ``selected_expected_information_gain_nats``, ``separability``, ``lines`` (reference responses),
         ``parameters`` (range, scale, reference, prior widths), ``noise_nT``, ``method``, ``notes``.
@@ -1013,9 +1036,14 @@ class FlybyPlan:
         steps = []
         prev = 0.0
         seps = self.selection_separable or ((),) * len(self.selection_order)
-        for i, v, sep in zip(self.selection_order, self.selection_log_det, seps):
-            steps.append({"candidate": self.candidate_names[i], "log_det": float(v), "gain": float(v - prev),
-                          "separable_lines": list(sep)})
+        step_w, step_wl = self.selection_widths()
+        for n, (i, v, sep) in enumerate(zip(self.selection_order, self.selection_log_det, seps)):
+            w, wl = self._widths(step_w[n], step_wl[n])
+            entry = {"candidate": self.candidate_names[i], "log_det": float(v), "gain": float(v - prev),
+                     "separable_lines": list(sep), "expected_68_width": w}
+            if wl:
+                entry["expected_68_width_log10"] = wl
+            steps.append(entry)
             prev = float(v)
         params = []
         for j, p in enumerate(self.parameters):
@@ -1054,7 +1082,7 @@ class FlybyPlan:
 def plan_flybys(model: InteriorModel, drive_lines, parameters, candidates, noise_nT: float, choose: int, *,
                 reference=None, step_fraction: float = DEFAULT_STEP_FRACTION,
                 max_correlation: float = DEFAULT_MAX_CORRELATION, max_condition: float = DEFAULT_MAX_CONDITION,
-                max_sigma: float = DEFAULT_MAX_SIGMA) -> FlybyPlan:
+                max_sigma: float = DEFAULT_MAX_SIGMA, progress: bool = False) -> FlybyPlan:
     """Rank candidate flybys by expected information and choose ``choose`` of them greedily.
 
     Parameters
@@ -1077,6 +1105,8 @@ def plan_flybys(model: InteriorModel, drive_lines, parameters, candidates, noise
         Central-difference step (fraction of each prior width in the sampling coordinate).
     max_correlation, max_condition, max_sigma : float
         Separability thresholds (:func:`line_separability`).
+    progress : bool
+        Show a progress bar over the candidates (tqdm, standard error).
 
     Returns
     -------
@@ -1105,7 +1135,7 @@ def plan_flybys(model: InteriorModel, drive_lines, parameters, candidates, noise
     cands = _check_candidates(candidates)
     k = _check_choose(choose, len(cands))
     deriv = response_derivatives(model, lines, params, reference, step_fraction=step_fraction)
-    grams = candidate_grams(model, lines, cands)
+    grams = candidate_grams(model, lines, cands, progress=progress)
     fisher = fisher_matrices(grams, deriv.derivative, sigma)
     prec = prior_precision(params)
     log_det = log_det_criterion(fisher, prec)

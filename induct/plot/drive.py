@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import textwrap
 from pathlib import Path
 
 import numpy as np
@@ -16,7 +17,9 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
 
     Top: the three flow-frame components of the series. Bottom: each line's
     component amplitudes as stems on log-log axes, labelled with the line's
-    name. Okabe-Ito colours.
+    name. Okabe-Ito colours. With a current sheet (``analysis.current_sheet``), the
+    internal field alone is overlaid: dashed series and open markers at its line
+    amplitudes (:func:`_overlay_internal`).
 
     Parameters
     ----------
@@ -24,8 +27,8 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
     path : str or Path, optional
         Output path; written in each of ``formats`` when given.
     caption : str, optional
-        Footer; default :data:`induct.field.analysis.INTERNAL_FIELD_ONLY` for
-        lines from a planet file, else a note that the lines were fitted to the series.
+        Footer; default ``analysis.caveat`` (what the lines leave out) for lines
+        from a planet file, else a note that the lines were fitted to the series.
     formats : tuple of str
 
     Returns
@@ -44,12 +47,12 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
     """
     from matplotlib import ticker
 
-    from induct.field.analysis import INTERNAL_FIELD_ONLY
     from induct.plot.style import COLORS, figure, plain_log_ticks, save_figure
 
     spec, t, b = analysis.spectrum, analysis.times_s, analysis.field_nT
     if caption is None:
-        caption = INTERNAL_FIELD_ONLY if analysis.planet else "Lines fitted by least squares to the given series."
+        caption = analysis.caveat if analysis.planet else "Lines fitted by least squares to the given series."
+    caption = textwrap.fill(caption, 150)
     fig, (ax_t, ax_s) = figure(2, 1, size=(8.0, 7.0), caption=caption)
     for c in range(3):
         ax_t.plot(t / SECONDS_PER_HOUR, b[:, c], color=COLORS[c], lw=1.0, label=f"B{'xyz'[c]}")
@@ -79,12 +82,33 @@ def plot_drive(analysis, path=None, *, caption: str | None = None, formats=("png
     ax_s.set_xlabel("period (h)")
     ax_s.set_ylabel("line amplitude (nT)")
     ax_s.set_title("Line spectrum (flow-frame components)")
+    if analysis.current_sheet is not None:
+        _overlay_internal(ax_t, ax_s, analysis, bottom)
     ax_s.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
     if shown:
         ax_s.set_ylim(bottom, 8.0 * top)
         periods = [ln.period_h for ln in shown]
         ax_s.set_xlim(0.7 * min(periods), 1.4 * max(periods))
-    fig.tight_layout(rect=(0, 0.03, 1, 1))
+    fig.tight_layout(rect=(0, 0.015 * (1 + caption.count("\n")) + 0.015, 1, 1))
     if path is None:
         return fig
     return save_figure(fig, path, formats=formats)
+
+
+def _overlay_internal(ax_t, ax_s, analysis, bottom: float) -> None:
+    """Draw the internal field alone (no current sheet) over both panels (line amplitudes >= bottom)."""
+    from induct.plot.style import COLORS
+
+    t = analysis.times_s / SECONDS_PER_HOUR
+    for c in range(3):
+        ax_t.plot(t, analysis.internal_field_nT[:, c], color=COLORS[c], lw=0.8, ls="--")
+    ax_t.plot([], [], color="0.4", lw=0.8, ls="--", label="internal\nfield only")
+    ax_t.set_title(ax_t.get_title() + " (solid: with the current sheet)")
+    ax_t.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    for line in analysis.sheet_lines:
+        amp = np.abs(line.b_internal_nT)
+        for c in range(3):
+            if amp[c] > 0.0 and amp[c] >= bottom:
+                ax_s.plot(line.period_h * (1.0 + 0.015 * (c - 1)), amp[c], "o", mfc="none", mec=COLORS[c], ms=7)
+    ax_s.plot([], [], "o", mfc="none", mec="0.4", ms=7, label="internal\nfield only")
+    ax_s.set_title("Line spectrum (flow-frame components; filled: with the current sheet)")

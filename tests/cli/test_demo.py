@@ -9,7 +9,8 @@ from induct.cli.demo import STEP_KEYS, run_demo
 def test_demo_fast_writes_figures_and_report(tmp_path):
     steps, report = run_demo(tmp_path, fast=True, progress=False)
     names = {p.name for p in tmp_path.iterdir()}
-    for stem in ("driving_spectrum", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "inversion_corner"):
+    for stem in ("driving_spectrum", "flyby", "map_amplitude", "map_difference", "diagram", "separation", "inversion_corner",
+                 "plan"):
         for suffix in (".png", ".pdf"):
             path = tmp_path / (stem + suffix)
             assert path.is_file() and path.stat().st_size > 5000, path
@@ -17,7 +18,7 @@ def test_demo_fast_writes_figures_and_report(tmp_path):
     text = report.read_text()
     # The report carries the numbers and says what the model leaves out.
     assert "phase lag (deg)" in text and "95 % range" in text and "plasma interaction" in text
-    assert [s.argv[0] for s in steps] == ["respond", "drive", "flyby", "map", "map", "diagram", "separate", "invert"]
+    assert [s.argv[0] for s in steps] == ["respond", "drive", "flyby", "map", "map", "diagram", "separate", "invert", "plan"]
 
 
 def test_demo_command(tmp_path, capsys):

@@ -21,13 +21,15 @@ SEED = 20261206
 
 
 def test_planet_to_inversion_round_trip(tmp_path, capsys):
-    # 1. Driving spectrum from the planet file, written into a copy of Ilmare's scenario without its lines.
+    # 1. Driving spectrum from the planet file (internal field: the bundled ilmare.toml's lines leave Tarvos'
+    #    current sheet out; ilmare_sheet.toml has it), written into a copy of Ilmare's scenario without its lines.
     text = (ROOT / "scenarios" / "ilmare.toml").read_text()
     stripped = re.split(r"\n\[\[drive\.lines\]\]", text)[0] + "\n"
     scenario_path = tmp_path / "ilmare.toml"
     scenario_path.write_text(stripped)
     assert load_scenario(scenario_path).drive_lines == []
-    assert main(["drive", str(ROOT / "scenarios" / "tarvos.toml"), "--write-scenario", str(scenario_path)]) == 0
+    assert main(["drive", str(ROOT / "scenarios" / "tarvos.toml"), "--no-current-sheet",
+                 "--write-scenario", str(scenario_path)]) == 0
     capsys.readouterr()
     sc = load_scenario(scenario_path)
     lines = sc.drive_lines

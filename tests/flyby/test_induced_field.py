@@ -277,7 +277,9 @@ def test_tarvos_gradient_predicts_field_across_moon():
     from induct.field.orbit import flow_frame_axes, planet_fixed_position
     from pathlib import Path
 
-    system = read_planet_file(Path(__file__).resolve().parents[2] / "scenarios" / "tarvos.toml")
+    # The internal field alone: inside the current sheet curl B = mu0 J != 0, so the sheet's gradient is not
+    # the symmetric, potential-field gradient this degree-2 model assumes (and ilmare.toml's lines leave it out).
+    system = read_planet_file(Path(__file__).resolve().parents[2] / "scenarios" / "tarvos.toml").without_current_sheet()
     _, orbit = system.orbit("Ilmare")
     grads = planet_gradient_lines(system)
     lines = ilmare().drive_lines

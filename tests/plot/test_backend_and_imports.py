@@ -17,16 +17,17 @@ import subprocess
 import sys
 from pathlib import Path
 
+import induct
+
 ROOT = Path(__file__).resolve().parents[2]
 STUDIES = ("planning", "inversion", "flyby", "field", "model")
 
 
 def _fresh(code: str) -> dict:
-    """Run ``code`` in a fresh interpreter with this worktree first on the path; it prints one JSON line."""
-    env_path = str(ROOT)
+    """Run ``code`` in a fresh interpreter importing the same induct as the tests; it prints one JSON line."""
     proc = subprocess.run(
-        [sys.executable, "-c", f"import sys; sys.path.insert(0, {env_path!r})\n" + code],
-        capture_output=True, text=True, timeout=300, cwd=ROOT,
+        [sys.executable, "-c", "import sys\n" + code],
+        capture_output=True, text=True, timeout=300, cwd=Path(induct.__file__).parents[1],
     )
     assert proc.returncode == 0, proc.stderr
     return json.loads(proc.stdout.strip().splitlines()[-1])
@@ -46,7 +47,7 @@ def test_study_modules_import_no_matplotlib():
         "print(json.dumps({'file': induct.__file__, 'loaded': sorted(m for m in sys.modules if m.split('.')[0] == "
         "'matplotlib' or m.startswith(('induct.plot', 'induct.cli', 'induct.io.map_files', 'induct.io.tables')))}))\n"
     )
-    assert got["file"].startswith(str(ROOT)), got["file"]
+    assert got["file"] == induct.__file__, got["file"]
     assert got["loaded"] == [], f"importing the study modules also imported {got['loaded']}"
 
 

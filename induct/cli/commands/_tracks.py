@@ -50,26 +50,33 @@ def add_track_options(parser, *, group_title: str = "track from SPICE kernels (i
 
     The body options are stored as ``args.spacecraft``, ``args.spice_moon`` and
     ``args.spice_planet``; their spellings are ``--spice-moon``/``--spice-planet`` and, when the
-    parser does not use them already, ``--moon``/``--planet``.
+    parser does not use them already, ``--moon``/``--planet``. An option the parser already has
+    (e.g. ``--step-s``) is not added again: the command's own definition serves both.
     """
     g = parser.add_argument_group(group_title)
-    g.add_argument("--spice", nargs="+", metavar="KERNEL",
-                   help="SPICE kernels (SPK, PCK, LSK, name bindings or a meta-kernel) giving the track in the "
-                   "moon-centred flow frame; needs spiceypy (pip install 'induct[spice]')")
-    g.add_argument("--spacecraft", metavar="ID", help="with --spice: spacecraft, NAIF integer ID or name")
-    g.add_argument(*(["--spice-moon"] + (["--moon"] if _free(parser, "--moon") else [])), dest="spice_moon",
-                   metavar="ID", help="with --spice: the moon, NAIF integer ID or name")
-    g.add_argument(*(["--spice-planet"] + (["--planet"] if _free(parser, "--planet") else [])), dest="spice_planet",
-                   metavar="ID", help="with --spice: the planet, NAIF integer ID or name")
-    g.add_argument("--start", metavar="UTC", help="with --spice: first sample, UTC (e.g. 2031-03-10T11:00:00)")
-    g.add_argument("--stop", metavar="UTC", help="with --spice: last sample, UTC")
-    g.add_argument("--step-s", type=float, metavar="S", help="with --spice: sampling step (s)")
-    g.add_argument("--spin-axis", metavar="RA_DEG,DEC_DEG",
-                   help="with --spice: the planet's spin axis (J2000, deg) when the kernels hold no "
-                   "BODYnnn_POLE_RA/POLE_DEC (write --spin-axis=-RA,DEC for a negative first value)")
-    parser.add_argument("--lsk", metavar="FILE",
-                        help="leap-seconds kernel (SPICE LSK text file) for UTC conversions; default: the table "
-                        "shipped with induct (IERS Bulletin C, TAI-UTC = 37 s from 2017-01-01)")
+
+    def add(*names, **kw):
+        names = [n for n in names if _free(parser, n)]
+        if names:  # an option the command already has (e.g. plan's --step-s) keeps its definition
+            g.add_argument(*names, **kw)
+
+    add("--spice", nargs="+", metavar="KERNEL",
+        help="SPICE kernels (SPK, PCK, LSK, name bindings or a meta-kernel) giving the track in the "
+        "moon-centred flow frame; needs spiceypy (pip install 'induct[spice]')")
+    add("--spacecraft", metavar="ID", help="with --spice: spacecraft, NAIF integer ID or name")
+    add("--spice-moon", "--moon", dest="spice_moon", metavar="ID", help="with --spice: the moon, NAIF integer ID or name")
+    add("--spice-planet", "--planet", dest="spice_planet", metavar="ID",
+        help="with --spice: the planet, NAIF integer ID or name")
+    add("--start", metavar="UTC", help="with --spice: first sample, UTC (e.g. 2031-03-10T11:00:00)")
+    add("--stop", metavar="UTC", help="with --spice: last sample, UTC")
+    add("--step-s", type=float, metavar="S", help="with --spice: sampling step (s)")
+    add("--spin-axis", metavar="RA_DEG,DEC_DEG",
+        help="with --spice: the planet's spin axis (J2000, deg) when the kernels hold no "
+        "BODYnnn_POLE_RA/POLE_DEC (write --spin-axis=-RA,DEC for a negative first value)")
+    if _free(parser, "--lsk"):
+        parser.add_argument("--lsk", metavar="FILE",
+                            help="leap-seconds kernel (SPICE LSK text file) for UTC conversions; default: the table "
+                            "shipped with induct (IERS Bulletin C, TAI-UTC = 37 s from 2017-01-01)")
 
 
 def add_cdf_options(parser) -> None:

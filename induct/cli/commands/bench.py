@@ -39,6 +39,10 @@ def register(subparsers):
                    help="instead: time the induced field along a trajectory (Ilmare, its 5 driving lines)")
     p.add_argument("--flyby-points", type=int, default=1_000_000, metavar="N",
                    help="trajectory points for --flyby (default 1e6)")
+    p.add_argument("--plan", action="store_true",
+                   help="instead: time flyby planning (Ilmare, random candidates, greedy choice of 5)")
+    p.add_argument("--plan-candidates", type=int, default=1000, metavar="N", help="candidates for --plan (default 1000)")
+    p.add_argument("--plan-samples", type=int, default=600, metavar="N", help="samples per candidate for --plan (default 600)")
     return p
 
 
@@ -55,6 +59,8 @@ def _header(what: str, rest: str) -> str:
 
 
 def run(args) -> int:
+    if getattr(args, "plan", False):
+        return _run_plan(args)
     if getattr(args, "flyby", False):
         return _run_flyby(args)
     if getattr(args, "map", False):
@@ -159,4 +165,26 @@ def _run_flyby(args) -> int:
     print(f"  Ilmare: induced field at {res.points:,d} trajectory points x {res.periods} periods")
     print(f"  checked induced_field: {res.seconds:.3f} s (best of {args.repeat}) -> {res.points_per_second:,.0f} points/s")
     print(f"  unchecked kernel induced_field_nT: {res.kernel_seconds:.3f} s")
+    return 0
+
+
+def _run_plan(args) -> int:
+    """``--plan``: time :func:`induct.planning.design.plan_flybys` on random candidates (3 parameters)."""
+    from induct.bench.plan import benchmark_plan
+
+    if args.plan_candidates < 1 or args.plan_samples < 2 or args.repeat < 1:
+        raise ValueError(f"--plan-candidates >= 1, --plan-samples >= 2 and --repeat >= 1 needed, got "
+                         f"{args.plan_candidates}, {args.plan_samples} and {args.repeat}")
+    res = benchmark_plan(args.plan_candidates, args.plan_samples, 3, repeat=args.repeat)
+    if args.json:
+        print(json.dumps(res, indent=2))
+        return 0
+    t = res["timings_s"]
+    print(_header(" --plan", ", numpy, one process"))
+    print(f"  {res['scenario']}: {res['n_candidates']:,d} candidates x {res['n_samples']} samples x {res['n_parameters']} "
+          f"parameters, {res['n_lines']} driving lines, greedy choice of {res['choose']} (best of {args.repeat})")
+    print(f"  plan_flybys total: {t['plan_flybys']:.3f} s")
+    print(f"    derivatives {t['derivatives']:.3f} s, Gram matrices {t['grams']:.3f} s, Fisher + widths "
+          f"{t['fisher_and_widths']:.3f} s, greedy selection {t['selection']:.3f} s")
+    print(f"  generating the candidate tracks: {t['generate_candidates']:.3f} s")
     return 0

@@ -4,24 +4,31 @@ Examples::
 
     induct drive scenarios/tarvos.toml
     induct drive scenarios/tarvos.toml --plot drive.png --json drive.json --write-scenario my_scenario.toml
+    induct drive scenarios/tarvos.toml --no-current-sheet      # the internal field alone
     induct drive --series field.csv --periods-h 12.1165 6.0583 84.69
 
 Components are in the flow frame (x along the corotation flow, y toward the
 planet's spin axis, z along it); ``B(t) = amplitude cos(2 pi t / period + phase)``
-with t in seconds from the epoch of the planet file or series. The epoch's UTC
-(``[planet] epoch_utc`` of the planet file, or --epoch-utc) is printed and written
-with --write-scenario as ``[drive] epoch_utc``.
+with t in seconds from the epoch of the planet file or series. When the planet
+file has a ``[current_sheet]``, its field is added to the internal field and a
+second table gives each line's amplitude from the internal field alone, with
+the sheet, and the sheet's share.
+The epoch's UTC (``[planet] epoch_utc`` of the planet file, or --epoch-utc) is
+printed and written with --write-scenario as ``[drive] epoch_utc``.
 """
 
 from __future__ import annotations
 
 import argparse
 import json
+import math
 import sys
+
+import numpy as np
 
 from induct import __version__
 from induct.constants import SECONDS_PER_HOUR
-from induct.field.analysis import INTERNAL_FIELD_ONLY, planet_drive_analysis, series_drive_analysis
+from induct.field.analysis import WITH_CURRENT_SHEET, planet_drive_analysis, series_drive_analysis
 from induct.field.drive import DriveLine
 from induct.io.drive_files import read_planet_file, write_drive_lines
 
@@ -29,7 +36,7 @@ def register(subparsers) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "drive",
         help="driving-field lines at a moon (planet file or primary-field time series)",
-        description=__doc__.split("\n\n")[0] + " " + INTERNAL_FIELD_ONLY,
+        description=__doc__.split("\n\n")[0] + " With a [current_sheet] in the planet file: " + WITH_CURRENT_SHEET,
     )
     p.add_argument("planet_file", nargs="?", metavar="PLANET.toml", help="planet file (TOML, see induct.field.drive)")
     p.add_argument("--moon", help="moon name (needed when the planet file has several moons)")
@@ -43,6 +50,8 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--min-amplitude-nT", type=float, default=0.1,
                    help="drop lines whose largest component is below this (nT, default 0.1)")
     p.add_argument("--samples", type=int, default=64, help="FFT samples per period and axis (default 64)")
+    p.add_argument("--no-current-sheet", action="store_true",
+                   help="ignore the planet file's [current_sheet]: lines of the internal field alone")
     p.add_argument("--plot", metavar="FILE.png", help="write a figure of the series and its line spectrum")
     p.add_argument("--json", nargs="?", const="-", metavar="FILE",
                    help="write the result as JSON to FILE (or to standard output instead of the table)")
@@ -75,8 +84,11 @@ def analyse(args):
             retrograde=args.retrograde, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
             source=str(args.series),
         )
+    system = read_planet_file(args.planet_file)
+    if args.no_current_sheet:
+        system = system.without_current_sheet()
     return planet_drive_analysis(
-        read_planet_file(args.planet_file), args.moon, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
+        system, args.moon, max_harmonic=args.max_harmonic, max_orbital=args.max_orbital,
         min_amplitude_nT=args.min_amplitude_nT, samples=args.samples,
     )
 
@@ -106,8 +118,67 @@ def result_dict(analysis) -> dict:
             }
             for line in spec.lines
         ],
-        "caveat": INTERNAL_FIELD_ONLY,
+        **({"current_sheet": _sheet_dict(analysis)} if analysis.current_sheet is not None else {}),
+        "caveat": analysis.caveat,
     }
+
+
+def _components(b) -> dict:
+    return {"amplitude_nT": [float(x) for x in abs(b)], "phase_deg": [float(x) for x in np.degrees(np.angle(b))]}
+
+
+def _sheet_dict(analysis) -> dict:
+    """JSON form of the current sheet and of each line with and without it."""
+    sheet = analysis.current_sheet
+    return {
+        "model": "axisymmetric washer of azimuthal current I0/rho (Connerney, Acuna & Ness 1981), axis along the dipole",
+        "inner_radius": sheet.inner_radius,
+        "outer_radius": sheet.outer_radius if math.isfinite(sheet.outer_radius) else "inf",
+        "half_thickness": sheet.half_thickness,
+        "current_constant_nT": sheet.current_constant_nT,
+        "axis_tilt_deg": sheet.tilt_deg,
+        "axis_tilt_longitude_deg": sheet.tilt_longitude_deg,
+        "moon_height_range": list(analysis.sheet_height),
+        "share_definition": "sheet_share = |B_sheet| / |B_with_sheet|, vector amplitudes sqrt(sum_c |B_c|^2); "
+                            "B_sheet = B_with_sheet - B_internal (complex, per component)",
+        "lines": [
+            {
+                "label": ln.label,
+                "period_h": ln.period_h,
+                "internal": _components(ln.b_internal_nT),
+                "with_sheet": _components(ln.b_total_nT),
+                "sheet": _components(ln.b_sheet_nT),
+                "internal_vector_amplitude_nT": ln.internal_nT,
+                "with_sheet_vector_amplitude_nT": ln.total_nT,
+                "sheet_vector_amplitude_nT": ln.sheet_nT,
+                "sheet_share": ln.sheet_share,
+            }
+            for ln in analysis.sheet_lines
+        ],
+    }
+
+
+def format_sheet_table(analysis) -> str:
+    """Each line from the internal field alone and with the current sheet (empty without a sheet)."""
+    sheet = analysis.current_sheet
+    if sheet is None:
+        return ""
+    outer = f"{sheet.outer_radius:g}" if math.isfinite(sheet.outer_radius) else "inf"
+    out = [f"Current sheet: inner radius {sheet.inner_radius:g}, outer radius {outer}, half-thickness "
+           f"{sheet.half_thickness:g} (planet radii), current constant {sheet.current_constant_nT:g} nT, axis tilted "
+           f"{sheet.tilt_deg:.4g} deg toward {sheet.tilt_longitude_deg % 360.0:.4g} deg E."]
+    if analysis.sheet_note:
+        out.append(analysis.sheet_note)
+    out.append("Lines with and without the sheet (vector amplitude |B| = sqrt(|Bx|^2 + |By|^2 + |Bz|^2); "
+               "B_sheet = B_with - B_internal; share = |B_sheet| / |B_with|):")
+    head = (f"{'line':<16} {'period_h':>10} {'|B|int_nT':>10} {'|B|with_nT':>10} {'|B|sheet_nT':>11} "
+            f"{'share':>7} {'|By|int_nT':>10} {'|By|with_nT':>11}")
+    out += [head, "-" * len(head)]
+    for ln in analysis.sheet_lines:
+        out.append(f"{ln.label:<16} {ln.period_h:>10.5f} {ln.internal_nT:>10.4f} {ln.total_nT:>10.4f} "
+                   f"{ln.sheet_nT:>11.4f} {ln.sheet_share:>7.3f} {abs(ln.b_internal_nT[1]):>10.4f} "
+                   f"{abs(ln.b_total_nT[1]):>11.4f}")
+    return "\n".join(out)
 
 
 def format_drive_table(analysis) -> str:
@@ -134,8 +205,10 @@ def format_drive_table(analysis) -> str:
                    f"{ph[0]:>8.2f} {ph[1]:>8.2f} {ph[2]:>8.2f} {line.variance_fraction:>9.3e}")
     out.append(f"The lines explain {100.0 * spec.fraction_explained:.6g} % of the variance "
                f"(total variance {spec.total_variance_nT2:.6g} nT^2).")
+    if analysis.current_sheet is not None:
+        out.append(format_sheet_table(analysis))
     if info["planet"]:
-        out.append(INTERNAL_FIELD_ONLY)
+        out.append(analysis.caveat)
     return "\n".join(out)
 
 
