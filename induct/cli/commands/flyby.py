@@ -70,7 +70,6 @@ def predict(args):
     from induct.io.drive_files import read_planet_file
     from induct.flyby.prediction import predict_flyby
     from induct.io.scenario import load_scenario
-    from induct.io.tracks import read_track
 
     scenario = load_scenario(args.scenario)
     if not scenario.drive_lines:
@@ -79,9 +78,12 @@ def predict(args):
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
     if spice_requested(args):
+        # --moon/--planet name the SPICE bodies unless --spice-moon/--spice-planet do; then --moon may name the
+        # moon in the planet file.
+        planet_moon = args.moon if args.spice_moon is not None else None
         args.spice_moon = args.spice_moon or args.moon
         args.spice_planet = args.spice_planet or args.planet
-        planet_path, planet_moon = args.planet_file, None
+        planet_path = args.planet_file
     else:
         if args.planet and args.planet_file:
             raise ValueError("give the planet file once: --planet or --planet-file")
@@ -90,7 +92,7 @@ def predict(args):
             raise ValueError("--moon needs --planet")
     track, notes = track_from_args(args, scenario, frame=args.frame)
     planet = read_planet_file(planet_path) if planet_path else None
-    if planet is not None and spice_requested(args) and len(planet.moons) > 1:
+    if planet is not None and spice_requested(args) and planet_moon is None and len(planet.moons) > 1:
         name = str(args.spice_moon).strip().lower()
         planet_moon = next((m for m in planet.moons if m.lower() == name), None)
         if planet_moon is None:
