@@ -158,6 +158,9 @@ class DriveAnalysis:
     sheet_height : tuple of float or None
         With a sheet: the least and largest height of the moon above the sheet's mid-plane over all
         orbital and rotation phases (planet radii).
+    epoch_utc : str or None
+        UTC of ``t = 0`` (the planet file's ``[planet] epoch_utc``, or given with a series);
+        None when unknown.
     """
 
     spectrum: object
@@ -172,6 +175,7 @@ class DriveAnalysis:
     internal_field_nT: np.ndarray | None = None
     sheet_lines: tuple = ()
     sheet_height: tuple | None = None
+    epoch_utc: str | None = None
 
     @property
     def caveat(self) -> str:
@@ -196,10 +200,11 @@ class DriveAnalysis:
 
     @property
     def info(self) -> dict:
-        """Where the lines come from: ``source``, ``planet``, ``moon`` (and ``sense`` for a planet file)."""
+        """Where the lines come from: ``source``, ``planet``, ``moon`` (and ``sense`` for a planet file), ``epoch_utc``."""
         out = {"source": self.source, "planet": self.planet, "moon": self.moon}
         if self.planet is not None:
             out["sense"] = self.sense
+        out["epoch_utc"] = self.epoch_utc
         return out
 
 
@@ -262,7 +267,8 @@ def planet_drive_analysis(
     if sheet is None:
         spec = planet_drive_spectrum(system, name, min_amplitude_nT=min_amplitude_nT, **options)
         b = primary_field_series(system.planet, orbit, t)
-        return DriveAnalysis(spec, t, b, str(system.source), system.planet.name, name, sense)
+        return DriveAnalysis(spec, t, b, str(system.source), system.planet.name, name, sense,
+                             epoch_utc=getattr(system, "epoch_utc", None))
     if not (math.isfinite(min_amplitude_nT) and min_amplitude_nT >= 0.0):
         raise ValueError(f"min_amplitude_nT must be finite and >= 0, got {min_amplitude_nT!r}")
     internal = system.without_current_sheet()
@@ -277,7 +283,8 @@ def planet_drive_analysis(
     t_o, t_r = np.meshgrid(orbit.period_s * np.arange(n) / n, system.planet.rotation_period_s * np.arange(n) / n)
     _, z = sheet.sheet_coordinates(planet_fixed_position(system.planet, orbit, t_o.ravel(), t_r.ravel()))
     return DriveAnalysis(spec, t, b, str(system.source), system.planet.name, name, sense,
-                         current_sheet=sheet, internal_spectrum=internal_spec, internal_field_nT=b_internal,
+                         epoch_utc=getattr(system, "epoch_utc", None), current_sheet=sheet,
+                         internal_spectrum=internal_spec, internal_field_nT=b_internal,
                          sheet_lines=_sheet_lines(total_all, internal_all, spec, internal_spec),
                          sheet_height=(float(z.min()), float(z.max())))
 

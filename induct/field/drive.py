@@ -31,6 +31,7 @@ Planet files (format 1, TOML)
     rotation_period_h = 10.6
     gm_km3_per_s2 = 1.0e8           # optional if every moon gives orbital_period_h
     prime_meridian_deg = 0.0        # optional: inertial longitude of longitude 0 at t = 0
+    epoch_utc = "2031-03-10T00:00:00"  # optional: UTC of t = 0 (checked by induct.io.drive_files)
 
     [dipole]                        # optional: centred or offset tilted dipole
     B0_nT = 2.5e5                   # equatorial surface field (or moment_A_m2)
@@ -269,12 +270,16 @@ class PlanetSystem:
     current_sheet : CurrentSheetField or None
         The planet file's ``[current_sheet]``; ``planet.field`` is then
         ``SumField((internal field, current_sheet))``.
+    epoch_utc : str or None
+        ``[planet] epoch_utc``: UTC of ``t = 0`` (the time origin of the orbits, the prime
+        meridian and the driving-line phases), if the file gives it.
     """
 
     planet: Planet
     moons: dict
     source: str = "<table>"
     current_sheet: CurrentSheetField | None = None
+    epoch_utc: str | None = None
 
     def __post_init__(self):
         if self.current_sheet is not None:
@@ -303,7 +308,7 @@ class PlanetSystem:
         p = self.planet
         internal = Planet(p.name, p.radius_m, p.rotation_period_s, p.field.parts[0], p.gm_m3_per_s2,
                           p.prime_meridian_rad)
-        return PlanetSystem(internal, self.moons, self.source)
+        return PlanetSystem(internal, self.moons, self.source, epoch_utc=self.epoch_utc)
 
     def orbit(self, moon: str | None = None) -> tuple[str, KeplerOrbit]:
         """(name, orbit) of the named moon, or of the only moon when ``moon`` is None."""
@@ -460,7 +465,11 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
     p = data.get("planet")
     if not isinstance(p, dict):
         raise ValueError("planet: missing [planet] table")
-    _check_keys(p, {"name", "radius_km", "rotation_period_h", "gm_km3_per_s2", "prime_meridian_deg"}, "planet")
+    _check_keys(p, {"name", "radius_km", "rotation_period_h", "gm_km3_per_s2", "prime_meridian_deg", "epoch_utc"},
+                "planet")
+    epoch = p.get("epoch_utc")
+    if epoch is not None and not isinstance(epoch, str):
+        raise ValueError(f'planet.epoch_utc must be a string "YYYY-MM-DDTHH:MM:SS" (UTC), got {epoch!r}')
     name = p.get("name", "planet")
     if not isinstance(name, str):
         raise ValueError("planet.name must be a string")
@@ -489,7 +498,7 @@ def parse_planet_table(data: dict, source: str = "<table>") -> PlanetSystem:
         if moon_name in moons:
             raise ValueError(f"moon[{i}].name: {moon_name!r} appears twice")
         moons[moon_name] = orbit
-    return PlanetSystem(planet, moons, source, sheet)
+    return PlanetSystem(planet, moons, source, sheet, epoch_utc=epoch)
 
 
 def planet_drive_spectrum(

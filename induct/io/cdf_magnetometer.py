@@ -43,6 +43,7 @@ from pathlib import Path
 
 import numpy as np
 
+from induct.constants import MODEL_LIMITS as _MODEL_LIMITS
 from induct.io import timescales
 
 __all__ = [
@@ -59,12 +60,14 @@ __all__ = [
 
 _IMPORT_MESSAGE = "this needs cdflib: pip install 'induct[cdf]'"
 
-#: What the model behind a prediction leaves out (written to the TEXT global attribute).
-MODEL_LIMITS = (
-    "Model prediction by induct: quasi-static electromagnetic induction in a spherically symmetric "
-    "layered moon driven by the parent planet's time-varying field. Not included: plasma-interaction "
-    "fields, asymmetric (non-spherical) shells, motional induction, the steady background field. "
-    "Frame: moon-centred flow frame (x along corotation, y toward the planet's spin axis, z along it)."
+#: What the model behind a prediction leaves out (the project's one sentence; written to the TEXT global attribute).
+MODEL_LIMITS = _MODEL_LIMITS
+
+#: What a prediction file holds (written to TEXT before :data:`MODEL_LIMITS`).
+_DESCRIPTION = (
+    "Model prediction by induct: quasi-static electromagnetic induction in a layered moon driven by the parent "
+    "planet's time-varying field; the steady background field is not included. Frame: moon-centred flow frame "
+    "(x along corotation, y toward the planet's spin axis, z along it)."
 )
 
 _EPOCH_TYPES = {31: "CDF_EPOCH", 32: "CDF_EPOCH16", 33: "CDF_TIME_TT2000"}
@@ -381,9 +384,10 @@ def read_magnetometer_cdf(
         The CDF file.
     field_variable : str
         Variable with the field, shape (N, 3), ``UNITS`` nT; its ``DEPEND_0`` names the time variable.
-    position_variable : str
+    position_variable : str or None
         Variable with the moon-centred position, shape (N, 3), ``UNITS`` km, on the same time
-        variable (or one with identical times).
+        variable (or one with identical times). None: the file holds no positions (they come from
+        elsewhere, e.g. SPICE kernels); ``positions_km`` is then NaN.
     frame : str
         Frame of both vectors; only ``"flow"`` for now.
     epoch_utc : str, optional
@@ -430,12 +434,15 @@ def read_magnetometer_cdf(
     info = cdf.cdf_info()
     names = list(info.zVariables) + list(info.rVariables)
     for role, name in (("field_variable", field_variable), ("position_variable", position_variable)):
+        if name is None and role == "position_variable":
+            continue
         if name not in names:
             shown = ", ".join(names[:20]) + (" ..." if len(names) > 20 else "")
             raise ValueError(f"{source}: variable {name!r} ({role}) not found; variables: {shown}")
     fattrs = cdf.varattsget(field_variable) or {}
-    pattrs = cdf.varattsget(position_variable) or {}
-    for name, attrs, want in ((field_variable, fattrs, "nT"), (position_variable, pattrs, "km")):
+    pattrs = (cdf.varattsget(position_variable) or {}) if position_variable is not None else {}
+    checks = ((field_variable, fattrs, "nT"),) + (((position_variable, pattrs, "km"),) if position_variable else ())
+    for name, attrs, want in checks:
         if "UNITS" not in attrs:
             raise ValueError(f"{source}: variable {name}: attribute UNITS missing; expected {want}")
         units = _attr_value(attrs["UNITS"])
@@ -447,7 +454,7 @@ def read_magnetometer_cdf(
     tdb, tfill, tbad, etype, traw = _time_values(cdf, source, tname, field_variable, constants)
     n = tdb.size
     ptname = str(_attr_value(pattrs.get("DEPEND_0", tname))).strip()
-    if ptname != tname:
+    if position_variable is not None and ptname != tname:
         ptdb, ptfill, _, _, _ = _time_values(cdf, source, ptname, position_variable, constants)
         same = ptdb.size == n and np.array_equal(ptfill, tfill) and np.allclose(ptdb[~tfill], tdb[~tfill], rtol=0, atol=1e-9)
         if not same:
@@ -456,24 +463,32 @@ def read_magnetometer_cdf(
                 f"{tname!r} (DEPEND_0 of {field_variable}); resample the positions to the field's times"
             )
     b = _vector_data(cdf, source, field_variable, n)
-    r = _vector_data(cdf, source, position_variable, n)
+    if position_variable is not None:
+        r = _vector_data(cdf, source, position_variable, n)
+    else:
+        r = np.full((n, 3), np.nan)
     for name, data in ((field_variable, b), (position_variable, r)):
         if data.shape[0] != n:
             raise ValueError(f"{source}: variable {name}: {data.shape[0]} records, but time variable {tname} has {n}")
     bfill, bbad = _masks(b, fattrs, source, field_variable)
-    rfill, rbad = _masks(r, pattrs, source, position_variable)
+    if position_variable is not None:
+        rfill, rbad = _masks(r, pattrs, source, position_variable)
+    else:
+        rfill = rbad = np.zeros(n, dtype=bool)
     fill = tfill | bfill | rfill
     bad = (tbad | bbad | rbad) & ~fill
     keep = ~(fill | bad)
     dropped = {
         tname: {"fill": int(tfill.sum()), "out_of_range": int(tbad.sum())},
         field_variable: {"fill": int(bfill.sum()), "out_of_range": int(bbad.sum())},
-        position_variable: {"fill": int(rfill.sum()), "out_of_range": int(rbad.sum())},
     }
+    if position_variable is not None:
+        dropped[position_variable] = {"fill": int(rfill.sum()), "out_of_range": int(rbad.sum())}
     if not keep.any():
         raise ValueError(
             f"{source}: variable {field_variable}: no valid samples among {n} records ({int(fill.sum())} fill values, "
-            f"{int(bad.sum())} outside VALIDMIN/VALIDMAX in {tname}, {field_variable} or {position_variable})"
+            f"{int(bad.sum())} outside VALIDMIN/VALIDMAX in "
+            f"{', '.join(v for v in (tname, field_variable, position_variable) if v)})"
         )
     tdb_k = tdb[keep]
     step = np.diff(tdb_k)
@@ -621,7 +636,7 @@ def write_prediction_cdf(
         arrays[name] = arr
     utc0 = timescales.tdb_to_utc(float(tdb[0]), digits=0, constants=constants)
     logical_source = f"{_short(source_name)}_{_short(data_type)}_{_short(descriptor)}"
-    lines = [MODEL_LIMITS] + [" ".join(str(x).split()) for x in text]
+    lines = [_DESCRIPTION, MODEL_LIMITS] + [" ".join(str(x).split()) for x in text]
     if epoch_utc is not None:
         lines.append(f"Time origin of the model's t_s: {epoch_utc} UTC.")
     globals_ = {

@@ -12,7 +12,7 @@ import numpy as np
 
 from induct import __version__
 
-__all__ = ["flyby_field_columns", "write_flyby_fields", "write_synthetic_residuals", "write_flyby_stream"]
+__all__ = ["flyby_field_columns", "write_flyby_fields", "write_flyby_cdf", "write_synthetic_residuals", "write_flyby_stream"]
 
 
 def flyby_field_columns(prediction) -> dict:
@@ -21,7 +21,8 @@ def flyby_field_columns(prediction) -> dict:
     ``t_s``, ``x_km``, ``y_km``, ``z_km`` (track frame), ``altitude_km``, then
     for ``ind`` (induced), ``pri`` (primary), ``tot`` (primary + induced) and,
     with a comparison, ``diff``: ``bx_NAME_nT``, ``by_NAME_nT``, ``bz_NAME_nT``
-    and the magnitude ``b_NAME_nT``.
+    and the magnitude ``b_NAME_nT``; last ``utc`` (ISO UTC strings) when the track carries
+    UTC times (SPICE tracks, track files with a ``utc`` column).
 
     Parameters
     ----------
@@ -58,10 +59,12 @@ def flyby_field_columns(prediction) -> dict:
         for c in range(3):
             cols[f"b{'xyz'[c]}_{name}_nT"] = v[:, c]
         cols[f"b_{name}_nT"] = np.linalg.norm(v, axis=1)
+    if getattr(track, "utc", None) is not None:
+        cols["utc"] = np.asarray(track.utc).astype(str)
     return cols
 
 
-def write_flyby_fields(path, prediction, *, compare_label: str | None = None) -> None:
+def write_flyby_fields(path, prediction, *, compare_label: str | None = None, extra_comments=()) -> None:
     """Write the fields along the track (:func:`flyby_field_columns`) with a comment header.
 
     The comments name the scenario, trajectory, frame, units, what each block
@@ -73,6 +76,8 @@ def write_flyby_fields(path, prediction, *, compare_label: str | None = None) ->
     prediction : induct.flyby.prediction.FlybyPrediction
     compare_label : str, optional
         How the second interior is named in the header (default: its scenario name).
+    extra_comments : sequence of str
+        Further header lines (where the track and its times come from, leap seconds).
 
     Examples
     --------
@@ -90,10 +95,11 @@ def write_flyby_fields(path, prediction, *, compare_label: str | None = None) ->
     from induct.io.tracks import write_csv
 
     track = prediction.track
-    write_csv(path, flyby_field_columns(prediction), _field_comments(prediction, compare_label, f"{track.size} rows"))
+    write_csv(path, flyby_field_columns(prediction),
+              _field_comments(prediction, compare_label, f"{track.size} rows", extra_comments))
 
 
-def _field_comments(prediction, compare_label, rows_text):
+def _field_comments(prediction, compare_label, rows_text, extra_comments=()):
     from induct.flyby.prediction import FLYBY_LIMITS
 
     track = prediction.track
@@ -107,8 +113,53 @@ def _field_comments(prediction, compare_label, rows_text):
         "ind = induced field, pri = primary (driving) field"
         + (" incl. its non-uniform part from the planet's gradient" if prediction.degree2 is not None else "") + ", tot = pri + ind"
         + (f", diff = induced field minus that of {compare_label}" if comparison is not None else ""),
+        *[" ".join(str(c).split()) for c in extra_comments],
         FLYBY_LIMITS,
     ]
+
+
+def write_flyby_cdf(path, prediction, epoch_utc: str, *, text=(), constants=None) -> None:
+    """Write the fields along the track as a CDF file with ISTP attributes (flow frame).
+
+    Variables ``Epoch`` (CDF_TIME_TT2000), ``Position`` (km), ``B_induced``, ``B_primary``,
+    ``B_total`` and, with a comparison, ``B_difference`` (nT), written by
+    :func:`induct.io.cdf_magnetometer.write_prediction_cdf` (``TEXT`` holds the model's limits,
+    :data:`induct.constants.MODEL_LIMITS`, and ``text``).
+
+    Parameters
+    ----------
+    path : str or Path
+    prediction : induct.flyby.prediction.FlybyPrediction
+    epoch_utc : str
+        UTC of ``t = 0`` of the track's ``times_s`` (the scenario's ``[drive] epoch_utc``).
+    text : sequence of str
+        Extra ``TEXT`` lines (sources of the track and times).
+    constants : TimeConstants or path of an LSK, optional
+        Leap-second table.
+
+    Examples
+    --------
+    >>> import tempfile, cdflib
+    >>> from pathlib import Path
+    >>> from induct import load_scenario
+    >>> from induct.flyby.prediction import predict_flyby
+    >>> from induct.io.tracks import read_track
+    >>> p = predict_flyby(load_scenario("ilmare"), read_track("ilmare_flyby"))
+    >>> out = Path(tempfile.mkdtemp()) / "f.cdf"
+    >>> write_flyby_cdf(out, p, "2031-03-10T00:00:00")
+    >>> cdflib.CDF(str(out)).varget("B_total").shape
+    (3601, 3)
+    """
+    from induct.io.cdf_magnetometer import write_prediction_cdf
+
+    fields = {"B_induced": prediction.induced_nT, "B_primary": prediction.primary_nT,
+              "B_total": prediction.primary_nT + prediction.induced_nT}
+    if prediction.comparison is not None:
+        fields["B_difference"] = prediction.comparison.difference_nT
+    lines = [f"induct {__version__} flyby: scenario {prediction.scenario_source}, trajectory {prediction.track.source}"]
+    lines += [" ".join(str(c).split()) for c in text]
+    write_prediction_cdf(path, prediction.track.times_s, prediction.track.positions_km, fields, epoch_utc=epoch_utc,
+                         text=lines, constants=constants)
 
 
 def write_synthetic_residuals(path, prediction, residuals_nT, noise_nT: float, seed: int) -> None:

@@ -23,6 +23,12 @@ and inversion settings::
 
     [drive]
     periods_h = [12.1, 6.05]
+    epoch_utc = "2031-03-10T00:00:00"   # optional: t = 0 of the driving lines (UTC)
+
+``[drive] epoch_utc`` gives the driving lines an absolute time origin: their phases
+refer to ``t = 0`` at that UTC instant (written by ``induct drive`` from the planet file's
+``[planet] epoch_utc`` or ``--epoch-utc``). Tracks and residual files with absolute times
+(``utc`` or ``tdb_s`` columns, SPICE kernels, CDF files) need it.
 
 Unknown tables and keys are rejected (a misspelt key would otherwise be silently
 ignored); the ``[drive]`` lines and the ``[invert]`` table are checked by the modules
@@ -39,6 +45,7 @@ import numpy as np
 
 from induct.field.drive import parse_drive_lines
 from induct.io.bundled import bundled_scenarios, resolve_scenario_path
+from induct.io.timescales import check_epoch_utc
 from induct.io.toml import read_toml
 from induct.model.interior import Ionosphere, InteriorModel, Layer
 
@@ -58,7 +65,7 @@ _LAYER_EXTRA_KEYS = {
     "description",
 }
 _ION_KEYS = {"conductance_S", "altitude_km"}
-_DRIVE_KEYS = {"periods_h", "lines"}
+_DRIVE_KEYS = {"periods_h", "lines", "epoch_utc"}
 #: Type of every key: "number" (int or float, never a boolean or a string), "string".
 _TYPES = {
     "name": "string", "description": "string", "parent": "string", "notes": "string", "kind": "string",
@@ -123,6 +130,9 @@ class Scenario:
         The whole TOML document, for the modules that read further tables.
     path : Path or None
         Where it was read from.
+    epoch_utc : str or None
+        ``[drive] epoch_utc``: UTC of ``t = 0`` of the driving lines (``"YYYY-MM-DDTHH:MM:SS"``),
+        or None when the scenario gives none (then only ``t_s`` tracks can be used).
     """
 
     name: str
@@ -130,6 +140,7 @@ class Scenario:
     periods_h: np.ndarray
     raw: dict = field(repr=False)
     path: Path | None = None
+    epoch_utc: str | None = None
 
     @property
     def drive_lines(self):
@@ -208,10 +219,16 @@ def parse_scenario(doc: dict, path: Path | None = None) -> Scenario:
         if missing:
             raise ValueError(f"{where}: [ionosphere] needs {', '.join(sorted(missing))}")
         ion = Ionosphere(conductance_S=ion_raw["conductance_S"], altitude_km=ion_raw["altitude_km"])
-    periods = _periods(doc.get("drive", {}), where)
+    drive = doc.get("drive", {})
+    if not isinstance(drive, dict):
+        raise ValueError(f"{where}: drive must be a table ([drive])")
+    periods = _periods(drive, where)
+    epoch = None
+    if "epoch_utc" in drive:
+        epoch = check_epoch_utc(drive["epoch_utc"], f"{where}: [drive] epoch_utc")
     layers = _resolve_chemistry(layers, body, where, periods)
     model = InteriorModel(body["radius_km"], layers, ionosphere=ion, name=body.get("name", "body"))
-    return Scenario(name=model.name, model=model, periods_h=periods, raw=doc, path=path)
+    return Scenario(name=model.name, model=model, periods_h=periods, raw=doc, path=path, epoch_utc=epoch)
 
 
 def _resolve_chemistry(layers, body, where, periods_h):

@@ -56,6 +56,7 @@ from induct.io import timescales
 __all__ = [
     "SpiceTrack",
     "spice_track",
+    "spice_track_at",
     "flow_frame_axes_j2000",
     "radec_to_vector",
     "write_track_csv",
@@ -560,14 +561,68 @@ def spice_track(
     >>> str(track.utc[0])
     '2031-03-10T11:50:00.000000'
     """
+    step = float(step_s)
+    if not (math.isfinite(step) and step > 0.0):
+        raise ValueError(f"step_s {step_s!r}: must be a positive number of seconds")
+
+    def grid(sp):
+        et0 = _str2et(sp, start_utc, "start_utc")
+        et1 = _str2et(sp, stop_utc, "stop_utc")
+        if not et1 > et0:
+            raise ValueError(f"stop_utc {stop_utc!r}: must be after start_utc {start_utc!r}")
+        n = int(math.floor((et1 - et0) / step + 1e-6 / step)) + 1
+        if n > _MAX_SAMPLES:
+            raise ValueError(f"step_s {step_s!r}: {n} samples over the interval; at most {_MAX_SAMPLES} allowed")
+        ets = et0 + step * np.arange(n, dtype=float)
+        ets[-1] = min(ets[-1], et1)
+        return ets, lambda ep: (et0 - ep) + step * np.arange(n, dtype=float)
+
+    return _track(kernels, spacecraft, moon, planet, grid, spin_axis_radec_deg, epoch_utc)
+
+
+def spice_track_at(kernels, spacecraft, moon, planet, tdb_s, *, spin_axis_radec_deg=None,
+                   epoch_utc: str | None = None) -> SpiceTrack:
+    """Like :func:`spice_track`, at given times (e.g. the sample times of a magnetometer file).
+
+    Parameters
+    ----------
+    kernels, spacecraft, moon, planet, spin_axis_radec_deg, epoch_utc
+        As for :func:`spice_track`.
+    tdb_s : array_like, shape (N,)
+        TDB seconds past J2000 (SPICE ET), finite and strictly increasing, N >= 1.
+
+    Returns
+    -------
+    SpiceTrack
+        ``tdb_s`` as given; ``times_s`` = ``tdb_s`` minus the epoch's TDB (or ``tdb_s`` without an epoch).
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> files = write_demo_kernels(tempfile.mkdtemp())
+    >>> from induct.io.timescales import utc_to_tdb
+    >>> t = utc_to_tdb(["2031-03-10T11:59:00", "2031-03-10T12:00:00"])
+    >>> round(float(np.linalg.norm(spice_track_at(files, -9900, 9101, 9100, t).positions_km[1])), 3)
+    2040.0
+    """
+    ets = np.array(tdb_s, dtype=float).reshape(-1)
+    if ets.size == 0 or not np.all(np.isfinite(ets)):
+        raise ValueError("tdb_s: give at least one finite time (TDB seconds past J2000)")
+    if np.any(np.diff(ets) <= 0.0):
+        raise ValueError("tdb_s: times must increase strictly")
+    if ets.size > _MAX_SAMPLES:
+        raise ValueError(f"tdb_s: {ets.size} samples; at most {_MAX_SAMPLES} allowed")
+    return _track(kernels, spacecraft, moon, planet, lambda sp: (ets, lambda ep: ets - ep), spin_axis_radec_deg,
+                  epoch_utc)
+
+
+def _track(kernels, spacecraft, moon, planet, grid, spin_axis_radec_deg, epoch_utc) -> SpiceTrack:
+    """Load the kernels, sample the times ``grid(sp) -> (ets, times_from(epoch_et))``, unload."""
     sp = _spice()
     files = _kernel_list(kernels)
     for f in files:
         if not os.path.isfile(f):
             raise ValueError(f"{f}: kernel file not found")
-    step = float(step_s)
-    if not (math.isfinite(step) and step > 0.0):
-        raise ValueError(f"step_s {step_s!r}: must be a positive number of seconds")
     loaded = []
     tmpdir = None
     try:
@@ -594,15 +649,7 @@ def spice_track(
         for a, b in ((sc, mn), (sc, pl), (mn, pl)):
             if a[0] == b[0]:
                 raise ValueError(f"{a[2]} and {b[2]} are the same body ({a[0]})")
-        et0 = _str2et(sp, start_utc, "start_utc")
-        et1 = _str2et(sp, stop_utc, "stop_utc")
-        if not et1 > et0:
-            raise ValueError(f"stop_utc {stop_utc!r}: must be after start_utc {start_utc!r}")
-        n = int(math.floor((et1 - et0) / step + 1e-6 / step)) + 1
-        if n > _MAX_SAMPLES:
-            raise ValueError(f"step_s {step_s!r}: {n} samples over the interval; at most {_MAX_SAMPLES} allowed")
-        ets = et0 + step * np.arange(n, dtype=float)
-        ets[-1] = min(ets[-1], et1)
+        ets, times_from = grid(sp)
         ep = _str2et(sp, epoch_utc, "epoch_utc") if epoch_utc is not None else 0.0
         spk_files = _loaded_files(sp, "SPK")
         r_sc = _positions(sp, sc, mn, ets, spk_files)
@@ -612,7 +659,7 @@ def spice_track(
         positions = np.einsum("nij,nj->ni", axes, r_sc)
         utc = np.asarray(sp.et2utc(ets, "ISOC", 6)).reshape(-1).astype(str)
         return SpiceTrack(
-            times_s=(et0 - ep) + step * np.arange(n, dtype=float) if epoch_utc is not None else ets,
+            times_s=times_from(ep) if epoch_utc is not None else ets,
             tdb_s=ets,
             utc=utc,
             positions_km=positions,

@@ -12,7 +12,6 @@ import io
 from pathlib import Path
 from typing import Sequence
 
-import numpy as np
 
 from induct.io.files import atomic_open, write_text
 from induct.model.response import phase_lag_deg

@@ -75,6 +75,7 @@ __all__ = [
     "tdb_minus_tt",
     "utc_to_tt2000",
     "seconds_from_epoch",
+    "check_epoch_utc",
 ]
 
 #: TT - TAI (s), exact by definition (IAU 1991 Resolution A4; IERS Conventions 2010, ch. 10).
@@ -986,3 +987,48 @@ def seconds_from_epoch(utc, epoch_utc: str, *, constants=None):
     c = _constants(constants)
     t = np.asarray(utc_to_tdb(utc, constants=c)) - utc_to_tdb(epoch_utc, constants=c)
     return _scalar(t)
+
+
+_EPOCH_FORM = re.compile(r"^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}(\.\d+)?Z?$")
+
+
+def check_epoch_utc(value, where: str = "epoch_utc", *, constants=None) -> str:
+    """Check an epoch given as ``"YYYY-MM-DDTHH:MM:SS"`` (UTC; fraction and ``Z`` optional).
+
+    Parameters
+    ----------
+    value : str
+        The epoch as written in a file or on the command line.
+    where : str
+        Where it comes from (file and key), for the message.
+    constants : TimeConstants or path of an LSK, optional
+        Leap-second table used to check that the time exists (default: the built-in one).
+
+    Returns
+    -------
+    str
+        ``value`` without surrounding blanks.
+
+    Raises
+    ------
+    ValueError
+        One line naming ``where``: not a string, another form, an impossible date or time,
+        ``23:59:60`` on a day without a leap second, a time before 1972-01-01.
+
+    Examples
+    --------
+    >>> check_epoch_utc("2031-03-10T00:00:00")
+    '2031-03-10T00:00:00'
+    >>> check_epoch_utc("2031-03-10", "[drive] epoch_utc")
+    Traceback (most recent call last):
+    ...
+    ValueError: [drive] epoch_utc '2031-03-10': give the epoch as "YYYY-MM-DDTHH:MM:SS" (UTC)
+    """
+    if not isinstance(value, str) or not _EPOCH_FORM.match(value.strip()):
+        raise ValueError(f'{where} {value!r}: give the epoch as "YYYY-MM-DDTHH:MM:SS" (UTC)')
+    text = value.strip()
+    try:
+        utc_to_tdb(text, constants=constants)
+    except ValueError as exc:
+        raise ValueError(f"{where} {value!r}: {exc}") from None
+    return text

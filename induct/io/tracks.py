@@ -13,8 +13,17 @@ in any order and extra columns are ignored. A trajectory needs
     216000.0,-5200.3,1817.2,-2950.0
     ...
 
-* ``t_s``: time in seconds from the epoch of the scenario's driving lines,
-  strictly increasing within a file.
+* time, one of (strictly increasing within a file):
+
+  - ``t_s``: seconds from the epoch of the scenario's driving lines;
+  - ``utc``: ISO 8601 UTC (``2031-03-10T12:00:00.25``, ``Z`` optional; ``23:59:60`` on a
+    leap-second day);
+  - ``tdb_s``: TDB seconds past J2000 (SPICE ephemeris time).
+
+  ``utc`` and ``tdb_s`` are converted to seconds from the scenario's ``[drive] epoch_utc``
+  (elapsed TDB seconds, leap seconds counted; :mod:`induct.io.timescales`), so they need a
+  scenario that gives one. When ``t_s`` is present it is used, and a ``utc``/``tdb_s``
+  column beside it must agree with it (within 1e-4 s) when the epoch is known.
 * positions: moon-centred, km.
 * Frame: ``flow`` (default; x along the corotation flow, y toward the planet's
   spin axis, z along it -- the frame of the driving lines, see
@@ -41,6 +50,7 @@ import numpy as np
 __all__ = [
     "FRAMES",
     "TRACK_COLUMNS",
+    "TIME_COLUMNS",
     "RESIDUAL_COLUMNS",
     "iter_track_chunks",
     "csv_appender",
@@ -63,6 +73,9 @@ FRAMES = {
     "body": np.array([[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]),
 }
 TRACK_COLUMNS = ("t_s", "x_km", "y_km", "z_km")
+#: Accepted time columns, in order of precedence.
+TIME_COLUMNS = ("t_s", "tdb_s", "utc")
+_TIME_AGREEMENT_S = 1e-4
 #: Header of a primary-field series (flow frame), read by :func:`read_field_series`.
 SERIES_HEADER = ["t_s", "bx_nT", "by_nT", "bz_nT"]
 RESIDUAL_COLUMNS = TRACK_COLUMNS + ("bx_nT", "by_nT", "bz_nT")
@@ -86,6 +99,10 @@ class Track:
         File name, for messages.
     file_lines : ndarray of int, shape (N,)
         File line number of each row (for messages).
+    utc : ndarray of str, shape (N,), or None
+        UTC of each row, when the file has a ``utc`` column (or the track came from SPICE).
+    time_note : str
+        How ``times_s`` were obtained (column, epoch, leap-second table), for reports.
     """
 
     times_s: np.ndarray
@@ -94,6 +111,8 @@ class Track:
     columns: dict = field(default_factory=dict)
     source: str = "<track>"
     file_lines: np.ndarray | None = None
+    utc: np.ndarray | None = None
+    time_note: str = "t_s: seconds from the epoch of the driving lines"
 
     @property
     def size(self) -> int:
@@ -162,7 +181,8 @@ def _fast_table(rows, width):
     return table if table.shape == (len(rows), width) else None
 
 
-def read_track(path, *, columns=(), frame: str | None = None) -> Track:
+def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | None = None, constants=None,
+               epoch_from: str | None = None, positions: bool = True) -> Track:
     """Read and check a trajectory CSV file (format in the module docstring).
 
     Parameters
@@ -174,6 +194,16 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
     frame : str, optional
         Frame of the file ("flow" or "body"); must agree with a ``frame`` column if both are given.
         Default: the ``frame`` column, else "flow".
+    epoch_utc : str, optional
+        UTC of ``t = 0`` (the scenario's ``[drive] epoch_utc``); needed for ``utc`` and ``tdb_s``
+        columns.
+    constants : TimeConstants or path of an LSK, optional
+        Leap-second table (default: the one shipped with induct).
+    epoch_from : str, optional
+        Where ``epoch_utc`` comes from (e.g. the scenario file), for messages.
+    positions : bool
+        False: the file must not have ``x_km,y_km,z_km`` (positions come from elsewhere, e.g. SPICE
+        kernels); ``positions_km`` is then NaN.
 
     Returns
     -------
@@ -185,36 +215,64 @@ def read_track(path, *, columns=(), frame: str | None = None) -> Track:
     ValueError
         Naming the file, row, line and column: missing header or columns, a row with the wrong
         number of values, a non-numeric, NaN or infinite value, an unknown or mixed frame,
-        times that do not increase strictly (duplicate or out of order), fewer than 2 rows.
+        times that do not increase strictly (duplicate or out of order), fewer than 2 rows, a
+        ``utc``/``tdb_s`` column without an epoch, ``t_s`` disagreeing with ``utc``/``tdb_s``.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> f = Path(tempfile.mkdtemp()) / "t.csv"
+    >>> _ = f.write_text("utc,x_km,y_km,z_km\\n2031-03-10T12:00:00,2000,0,0\\n2031-03-10T12:01:00,2000,360,0\\n")
+    >>> [round(t, 3) for t in read_track(f, epoch_utc="2031-03-10T00:00:00").times_s.tolist()]  # elapsed TDB (s)
+    [43200.0, 43260.0]
     """
     path = resolve_track_path(path)
     source = str(path)
     if frame is not None:
         _check_frame(frame, f"{source}: frame option")
     header, header_line, rows, lines = _read_rows(path)
-    return _track_from_rows(source, header, header_line, rows, lines, columns, frame)
+    return _track_from_rows(source, header, header_line, rows, lines, columns, frame, epoch_utc=epoch_utc,
+                            constants=constants, epoch_from=epoch_from, positions=positions)
 
 
 def _track_from_rows(source, header, header_line, rows, lines, columns=(), frame=None, *, row0: int = 0,
-                     min_rows: int = 2) -> Track:
+                     min_rows: int = 2, epoch_utc=None, constants=None, epoch_from=None, positions: bool = True) -> Track:
     """Check data rows (text) under ``header`` and build a :class:`Track` (``row0``: rows before these)."""
     if header is None:
         raise ValueError(f"{source}: empty file; the first line must be a header such as {','.join(TRACK_COLUMNS)}")
-    needed = list(TRACK_COLUMNS) + [c for c in columns if c not in TRACK_COLUMNS]
     dup = sorted({c for c in header if header.count(c) > 1})
     if dup:
         raise ValueError(f"{source}: line {header_line}: column(s) {', '.join(dup)} appear more than once in the header")
-    missing = [c for c in needed if c not in header]
+    time_col = next((c for c in TIME_COLUMNS if c in header), "t_s")
+    numeric_times = [c for c in ("t_s", "tdb_s") if c in header]
+    pos_cols = list(TRACK_COLUMNS[1:]) if positions else []
+    if not positions and any(c in header for c in TRACK_COLUMNS[1:]):
+        raise ValueError(
+            f"{source}: line {header_line}: the file has position columns, but the positions come from elsewhere "
+            "(SPICE kernels); drop x_km,y_km,z_km or the --spice options"
+        )
+    needed = numeric_times + pos_cols + [c for c in columns if c not in TRACK_COLUMNS]
+    missing = [c for c in needed[len(numeric_times):] if c not in header]
+    if time_col not in header:
+        missing.insert(0, "t_s")
     if missing:
         raise ValueError(
             f"{source}: line {header_line}: missing column(s) {', '.join(missing)}; the header must name "
-            f"{','.join(needed)} (got {','.join(header)})"
+            f"{','.join(['t_s'] + needed[len(numeric_times):])} (time may also be given as utc or tdb_s; "
+            f"got {','.join(header)})"
+        )
+    if time_col != "t_s" and epoch_utc is None:
+        raise ValueError(
+            f"{source}: column {time_col} holds absolute times, but {epoch_from or 'the scenario'} gives no "
+            "[drive] epoch_utc (the UTC of t = 0 of the driving lines); add it (induct drive --epoch-utc ... "
+            "--write-scenario) or give the times as t_s"
         )
     if len(rows) < min_rows:
         raise ValueError(f"{source}: needs at least 2 data rows, got {len(rows)}")
     width = len(header)
     index = {c: header.index(c) for c in needed}
-    fast = None if "frame" in header else _fast_table(rows, width)
+    fast = None if ("frame" in header or "utc" in header) else _fast_table(rows, width)
     data = {}
     if fast is not None:
         for name in needed:
@@ -265,29 +323,93 @@ def _track_from_rows(source, header, header_line, rows, lines, columns=(), frame
         if frame is not None and frame != file_frame:
             raise ValueError(f"{source}: column frame says {file_frame!r} but the frame option says {frame!r}")
     use_frame = frame or file_frame or "flow"
-    t = data["t_s"]
+    utc = None
+    if "utc" in header:
+        if table is None:  # pragma: no cover - the fast path is not taken with a utc column
+            table = np.array([next(csv.reader([row])) for row in rows], dtype=object)
+        utc = np.array([str(c).strip() for c in table[:, header.index("utc")]])
+    t, note = _times(data, utc, time_col, header, epoch_utc, constants, source, lines, epoch_from)
+    data["t_s"] = t
     step = np.diff(t)
     bad = step <= 0.0
     if bad.any():
         i = int(np.argmax(bad)) + 1
         kind = "repeats" if step[i - 1] == 0.0 else "is earlier than"
         raise ValueError(
-            f"{source}: row {row0 + i + 1}, line {lines[i]}, column t_s: t_s = {float(t[i])!r} {kind} the previous row's "
-            f"{float(t[i - 1])!r}; times must increase strictly (no duplicates, in time order)"
+            f"{source}: row {row0 + i + 1}, line {lines[i]}, column {time_col}: {time_col} = "
+            f"{(str(utc[i]) if time_col == 'utc' else float(data.get(time_col, t)[i]))!r} {kind} the previous row's "
+            f"{(str(utc[i - 1]) if time_col == 'utc' else float(data.get(time_col, t)[i - 1]))!r}; times must increase "
+            "strictly (no duplicates, in time order)"
         )
-    pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
-    extra = {c: data[c] for c in needed if c not in TRACK_COLUMNS}
-    return Track(t, to_flow_frame(pos, use_frame), use_frame, extra, source, np.array(lines))
+    if positions:
+        pos = np.stack([data["x_km"], data["y_km"], data["z_km"]], axis=-1)
+    else:
+        pos = np.full((t.size, 3), np.nan)
+    extra = {c: data[c] for c in needed if c not in TRACK_COLUMNS and c != "tdb_s"}
+    return Track(t, to_flow_frame(pos, use_frame), use_frame, extra, source, np.array(lines), utc, note)
 
 
-def iter_track_chunks(path, *, columns=(), frame: str | None = None, chunk_rows: int = 100_000):
+def _leap_source(constants) -> str:
+    from induct.io.timescales import TimeConstants, default_constants, read_lsk
+
+    if constants is None:
+        return default_constants().source
+    return constants.source if isinstance(constants, TimeConstants) else read_lsk(constants).source
+
+
+def _utc_seconds(utc, epoch_utc, constants, source, lines):
+    """Seconds from the epoch of UTC labels; errors name the first bad row."""
+    from induct.io.timescales import seconds_from_epoch, utc_to_tdb
+
+    try:
+        return np.asarray(seconds_from_epoch(utc, epoch_utc, constants=constants), dtype=float)
+    except ValueError:
+        for i, label in enumerate(utc):
+            try:
+                utc_to_tdb(label, constants=constants)
+            except ValueError as exc:
+                raise ValueError(f"{source}: row {i + 1}, line {lines[i]}, column utc: {exc}") from None
+        raise
+
+
+def _times(data, utc, time_col, header, epoch_utc, constants, source, lines, epoch_from):
+    """(times from the epoch (N,), description) from the time columns of a track file."""
+    from induct.io.timescales import utc_to_tdb
+
+    absolute = {}
+    if "tdb_s" in header and epoch_utc is not None:
+        absolute["tdb_s"] = data["tdb_s"] - float(utc_to_tdb(epoch_utc, constants=constants))
+    if utc is not None and epoch_utc is not None:
+        absolute["utc"] = _utc_seconds(utc, epoch_utc, constants, source, lines)
+    leap = f"leap seconds: {_leap_source(constants)}"
+    if time_col == "t_s":
+        t = data["t_s"]
+        for name, values in absolute.items():
+            diff = np.abs(values - t)
+            if np.any(diff > _TIME_AGREEMENT_S):
+                i = int(np.argmax(diff))
+                raise ValueError(
+                    f"{source}: row {i + 1}, line {lines[i]}, column t_s: t_s = {float(t[i])!r} s but column {name} "
+                    f"gives {float(values[i])!r} s from the epoch {epoch_utc} UTC of {epoch_from or 'the scenario'}; "
+                    f"t_s must count from that epoch (drop the t_s column to use {name})"
+                )
+        note = "t_s: seconds from the epoch of the driving lines"
+        if absolute:
+            note += f" (checked against column {', '.join(absolute)}; {leap})"
+        return t, note
+    t = absolute[time_col]
+    return t, f"times from column {time_col}, converted to seconds from {epoch_utc} UTC (elapsed TDB); {leap}"
+
+
+def iter_track_chunks(path, *, columns=(), frame: str | None = None, chunk_rows: int = 100_000,
+                      epoch_utc: str | None = None, constants=None, epoch_from: str | None = None):
     """Read a trajectory CSV file in pieces of ``chunk_rows`` rows: the checks of :func:`read_track`, bounded memory.
 
     Parameters
     ----------
     path : str or Path
         The file, or the stem of a bundled track.
-    columns, frame
+    columns, frame, epoch_utc, constants, epoch_from
         As for :func:`read_track`.
     chunk_rows : int
         Rows per piece (>= 2).
@@ -316,7 +438,7 @@ def iter_track_chunks(path, *, columns=(), frame: str | None = None, chunk_rows:
 
     def emit():
         track = _track_from_rows(source, header, header_line, rows, lines, columns, frame, row0=state["row0"],
-                                 min_rows=1)
+                                 min_rows=1, epoch_utc=epoch_utc, constants=constants, epoch_from=epoch_from)
         if state["last_t"] is not None and not track.times_s[0] > state["last_t"]:
             raise ValueError(f"{source}: row {state['row0'] + 1}, line {lines[0]}, column t_s: t_s = "
                              f"{float(track.times_s[0])!r} does not follow the previous row's {state['last_t']!r}; "
@@ -382,7 +504,8 @@ def write_csv(path, columns: dict, comments=()) -> None:
     ----------
     path : str or Path
     columns : dict of str -> array_like, shape (N,)
-        In output order; numbers written with 12 significant digits.
+        In output order; numbers written with 12 significant digits, string columns
+        (e.g. ``utc``) as they are (no commas).
     comments : sequence of str
         One ``# ...`` line each.
     """
@@ -408,7 +531,8 @@ def csv_appender(path, names, comments=()):
     Yields
     ------
     callable
-        ``append(columns)``: a dict of str -> array_like, shape (N,), with every name; 12 significant digits.
+        ``append(columns)``: a dict of str -> array_like, shape (N,), with every name; numbers with 12
+        significant digits, string columns (e.g. ``utc``) as they are (no commas).
         ``append.comment(text)`` adds a ``# ...`` line.
 
     Examples
@@ -431,9 +555,16 @@ def csv_appender(path, names, comments=()):
         handle.write(",".join(names) + "\n")
 
         def append(columns):
-            arrays = [np.asarray(columns[n], dtype=float) for n in names]
-            if arrays and arrays[0].size:
-                np.savetxt(handle, np.stack(arrays, axis=-1), fmt="%.12g", delimiter=",")
+            arrays = [np.asarray(columns[n]) for n in names]
+            text_cols = [a.dtype.kind in "USO" for a in arrays]
+            if not arrays or not arrays[0].size:
+                return
+            if not any(text_cols):
+                np.savetxt(handle, np.stack([a.astype(float) for a in arrays], axis=-1), fmt="%.12g", delimiter=",")
+            else:
+                cells = [a.astype(str).tolist() if tc else [f"{v:.12g}" for v in a.astype(float).tolist()]
+                         for a, tc in zip(arrays, text_cols)]
+                handle.write("\n".join(",".join(row) for row in zip(*cells)) + "\n")
 
         append.comment = lambda text: handle.write("# " + " ".join(str(text).split()) + "\n")
         yield append
@@ -520,7 +651,8 @@ def check_outside_model(track, model, what: str = "the body") -> None:
                       f"the ionosphere sheet (altitude {model.ionosphere.altitude_km:g} km)")
 
 
-def read_residual_tracks(paths, model, frame: str | None = None):
+def read_residual_tracks(paths, model, frame: str | None = None, *, epoch_utc: str | None = None, constants=None,
+                         epoch_from: str | None = None):
     """Read one or more residual files and join them, checking every point against the body.
 
     Parameters
@@ -531,6 +663,8 @@ def read_residual_tracks(paths, model, frame: str | None = None):
         The body (its radius and ionosphere sheet bound the points).
     frame : str, optional
         Frame of the files when they have no ``frame`` column.
+    epoch_utc, constants, epoch_from
+        Time origin and leap seconds for files with ``utc`` or ``tdb_s`` times (see :func:`read_track`).
 
     Returns
     -------
@@ -557,7 +691,8 @@ def read_residual_tracks(paths, model, frame: str | None = None):
     """
     pos, t, b, sources, frames = [], [], [], [], []
     for name in paths:
-        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=frame)
+        track = read_track(name, columns=RESIDUAL_COLUMNS[4:], frame=frame, epoch_utc=epoch_utc, constants=constants,
+                           epoch_from=epoch_from)
         check_outside_model(track, model)
         pos.append(track.positions_km)
         t.append(track.times_s)

@@ -13,6 +13,8 @@ with t in seconds from the epoch of the planet file or series. When the planet
 file has a ``[current_sheet]``, its field is added to the internal field and a
 second table gives each line's amplitude from the internal field alone, with
 the sheet, and the sheet's share.
+The epoch's UTC (``[planet] epoch_utc`` of the planet file, or --epoch-utc) is
+printed and written with --write-scenario as ``[drive] epoch_utc``.
 """
 
 from __future__ import annotations
@@ -56,6 +58,9 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--write-scenario", metavar="SCENARIO.toml",
                    help="write the lines into the scenario's [[drive.lines]] tables (replacing existing ones)")
     p.add_argument("--append", action="store_true", help="with --write-scenario: keep existing lines")
+    p.add_argument("--epoch-utc", metavar="YYYY-MM-DDTHH:MM:SS",
+                   help="UTC of t = 0 of the planet file or series (when the planet file has no [planet] epoch_utc; "
+                   "must agree with it otherwise); written to the scenario as [drive] epoch_utc")
     return p
 
 
@@ -187,6 +192,8 @@ def format_drive_table(analysis) -> str:
         sense = f" ({info['sense']})" if info.get("sense") else ""
         out.append(f"Periods: rotation {refs['rotation'] / 3600:.6g} h, orbit {refs['orbital'] / 3600:.6g} h{sense}, "
                    f"synodic {refs['synodic'] / 3600:.6g} h")
+    epoch = info.get("epoch_utc")
+    out.append(f"Epoch (t = 0): {epoch} UTC" if epoch else "Epoch (t = 0): not given (no [planet] epoch_utc or --epoch-utc)")
     out.append("Mean field (nT): " + ", ".join(f"B{c} = {v:.4g}" for c, v in zip("xyz", spec.mean_nT)))
     head = (f"{'line':<16} {'period_h':>10} {'|Bx|_nT':>10} {'|By|_nT':>10} {'|Bz|_nT':>10} "
             f"{'phx_deg':>8} {'phy_deg':>8} {'phz_deg':>8} {'var_frac':>9}")
@@ -209,6 +216,8 @@ def run(args) -> int:
     from induct.io.files import write_text
     from induct.plot.drive import plot_drive
 
+    from induct.io.timescales import check_epoch_utc
+
     if args.append and not args.write_scenario:
         raise ValueError("--append needs --write-scenario")
     from induct.cli.budget import check_job, csv_rows_estimate
@@ -225,7 +234,15 @@ def run(args) -> int:
     # series text, parsed values, and the least-squares design matrix (rows x fit columns)
     check_job(args, f"driving-field analysis of about {rows:.3g} series rows", 2 * size + rows * (300.0 + 8 * 3 * fit_cols)
               + 8.0 * args.samples * 3 * 200)
+    epoch = check_epoch_utc(args.epoch_utc, "--epoch-utc") if args.epoch_utc is not None else None
     analysis = analyse(args)
+    if epoch is not None:
+        if analysis.epoch_utc is not None and analysis.epoch_utc != epoch:
+            raise ValueError(
+                f"--epoch-utc {epoch} differs from [planet] epoch_utc = {analysis.epoch_utc} of {analysis.source}; "
+                "the lines' phases refer to the file's epoch"
+            )
+        analysis.epoch_utc = epoch
     result = result_dict(analysis)
     if args.json == "-":
         json.dump(result, sys.stdout, indent=2)
@@ -244,7 +261,8 @@ def run(args) -> int:
         comment = f"written by induct {__version__} drive from {analysis.source}"
         if analysis.moon:
             comment += f" (moon {analysis.moon})"
-        write_drive_lines(args.write_scenario, lines, append=args.append, comment=comment)
+        write_drive_lines(args.write_scenario, lines, append=args.append, comment=comment,
+                          epoch_utc=analysis.epoch_utc)
         if args.json != "-":
             print(f"{len(lines)} driving lines written to {args.write_scenario}")
     return 0

@@ -5,10 +5,17 @@ Examples::
     induct fit ilmare --data residuals.csv --noise-nT 0.5
     induct fit ilmare --data pass1.csv pass2.csv --noise-nT 0.5 --json --toml fitted.toml
     induct invert ilmare --data fitted.toml
+    induct fit my_moon.toml --data pass1.cdf --field-variable B_res --position-variable Position --noise-nT 0.5
 
 RESIDUALS.csv holds t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT: the measured field
 minus the primary field, moon-centred, in the frame of the scenario's driving
-lines (flow frame; or --frame body). Linear least squares for Re and Im of
+lines (flow frame; or --frame body); time may also be a utc or tdb_s column
+(absolute times need the scenario's [drive] epoch_utc). CDF files (.cdf) are
+read with cdflib following the ISTP conventions (--field-variable,
+--position-variable; fill and out-of-range samples dropped and counted).
+With --spice (and --spacecraft, --moon, --planet) the positions come from
+SPICE kernels at each sample's time instead of from the files.
+Linear least squares for Re and Im of
 R_1 at every [[drive.lines]] period, with the full covariance.
 """
 
@@ -21,6 +28,7 @@ import sys
 
 
 from induct import __version__
+from induct.cli.commands._tracks import add_cdf_options, add_track_options, residuals_from_args
 
 
 def register(subparsers) -> argparse.ArgumentParser:
@@ -34,11 +42,15 @@ def register(subparsers) -> argparse.ArgumentParser:
     )
     p.add_argument("scenario", help="scenario with [[drive.lines]] (file or bundled name); its radius and lines are used")
     p.add_argument("--data", required=True, nargs="+", metavar="RESIDUALS.csv",
-                   help="one or more residual files t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT")
+                   help="one or more residual files t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT (time also as utc or "
+                   "tdb_s), or CDF files (.cdf, with --field-variable and --position-variable)")
     p.add_argument("--noise-nt", "--noise-nT", dest="noise_nt", type=float, required=True, metavar="N",
                    help="1-sigma noise of each field component (nT)")
     p.add_argument("--frame", metavar="FRAME", help="frame of the files: flow (default) or body")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
+    add_cdf_options(p)
+    add_track_options(p, group_title="positions from SPICE kernels at the data's sample times (instead of "
+                      "positions in the --data files; no --start/--stop/--step-s)")
     p.add_argument("--toml", metavar="FILE", help="write the determined responses as a measurement file for induct invert")
     p.add_argument("--include-undetermined", action="store_true",
                    help="with --toml: also write periods that the flybys do not determine (not advised)")
@@ -60,7 +72,6 @@ def run(args) -> int:
     from induct.io.files import write_text
     from induct.io.measurements import parse_measurements
     from induct.io.scenario import load_scenario
-    from induct.io.tracks import read_residual_tracks
 
     if not (math.isfinite(args.noise_nt) and args.noise_nt > 0):
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
@@ -78,7 +89,8 @@ def run(args) -> int:
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
-    pos, t, b, sources, frames = read_residual_tracks(args.data, scenario.model, args.frame)
+    data = residuals_from_args(args, scenario)
+    pos, t, b, sources, frames = data.positions_km, data.times_s, data.residuals_nT, data.sources, data.frames
     fit = fit_responses(lines, scenario.model.radius_km, pos, t, b, args.noise_nt, max_condition=args.max_condition,
                         max_sigma=args.max_sigma, max_correlation=args.max_correlation)
     result = fit.to_dict()
@@ -89,6 +101,9 @@ def run(args) -> int:
         "convention": "R_1 = real + i imag = amplitude exp(i phase_lag), exp(+i w t); cov of (real, imag)",
         "frames": frames,
         "model": "degree-1 induced field of a spherically symmetric body driven by the scenario's [[drive.lines]]",
+        "epoch_utc": scenario.epoch_utc,
+        "dropped_samples": data.dropped,
+        "time_notes": data.notes,
     })
     if args.toml:
         text = fit.measurement_toml(
@@ -125,6 +140,11 @@ def run(args) -> int:
     th = fit.thresholds
     print(f"thresholds: condition number <= {th['max_condition']:g}, sigma_max <= {th['max_sigma']:g}, "
           f"cross-period correlation <= {th['max_correlation']:g}")
+    for d in data.dropped:
+        print(f"{d['file']}: {d['records']} records, {d['kept']} used; dropped {d['fill']} with fill values, "
+              f"{d['out_of_range']} outside VALIDMIN/VALIDMAX")
+    for note in data.notes:
+        print(f"time: {note}")
     for note in fit.notes:
         print(f"note: {note}")
     if args.toml:

@@ -6,10 +6,16 @@ Examples::
     induct flyby ilmare --trajectory track.csv --out field.csv --compare other.toml --noise-nT 0.5
     induct flyby ilmare --trajectory ilmare_flyby --out field.csv --planet scenarios/tarvos.toml
     induct flyby ilmare --trajectory ilmare_flyby --out field.csv --noise-nT 0.5 --residuals synthetic.csv
+    induct flyby my_moon.toml --spice k.tls k.tpc k.bsp --spacecraft PROBE --moon ILMARE --planet TARVOS \
+        --start 2031-03-10T11:00:00 --stop 2031-03-10T13:00:00 --step-s 10 --out field.cdf
 
 The driving field is the scenario's ``[[drive.lines]]`` (uniform at the moon,
 flow frame); the induced field is the degree-1 response of the scenario's
 interior, plus degree 2 from the gradient of the planet's field with --planet.
+With --spice the track comes from SPICE kernels (the scenario needs [drive]
+epoch_utc); then --moon and --planet name the SPICE bodies and the planet file
+for degree 2 is given as --planet-file. An output ending in .cdf is written as
+CDF with ISTP attributes (needs cdflib).
 """
 
 from __future__ import annotations
@@ -20,6 +26,7 @@ import sys
 
 import numpy as np
 
+from induct.cli.commands._tracks import add_track_options, require, spice_requested, time_constants, track_from_args
 from induct.flyby.prediction import FLYBY_LIMITS
 
 
@@ -30,9 +37,11 @@ def register(subparsers) -> argparse.ArgumentParser:
         description=__doc__.split("\n\n")[0] + " " + FLYBY_LIMITS,
     )
     p.add_argument("scenario", help="scenario TOML file with [[drive.lines]], or a bundled scenario (e.g. ilmare)")
-    p.add_argument("--trajectory", required=True, metavar="TRACK.csv",
-                   help="trajectory t_s,x_km,y_km,z_km (moon-centred), or a bundled track (e.g. ilmare_flyby)")
-    p.add_argument("--out", required=True, metavar="FIELD.csv", help="output CSV of the fields along the track")
+    p.add_argument("--trajectory", metavar="TRACK.csv",
+                   help="trajectory t_s,x_km,y_km,z_km (moon-centred; time also as utc or tdb_s), or a bundled track "
+                   "(e.g. ilmare_flyby); or use --spice")
+    p.add_argument("--out", required=True, metavar="FIELD.csv",
+                   help="output file of the fields along the track: CSV, or CDF (ISTP) when it ends in .cdf")
     p.add_argument("--frame", metavar="FRAME",
                    help="frame of the track: flow (default) or body (see induct.io.tracks)")
     p.add_argument("--noise-nt", "--noise-nT", dest="noise_nt", type=float, metavar="N",
@@ -41,14 +50,18 @@ def register(subparsers) -> argparse.ArgumentParser:
                    help="second interior (scenario file or bundled name); its induced field under the same driving "
                    "lines is subtracted")
     p.add_argument("--planet", metavar="PLANET.toml",
-                   help="add the degree-2 field from the gradient of this planet's internal field across the moon")
-    p.add_argument("--moon", help="with --planet: moon name (when the planet file has several moons)")
+                   help="add the degree-2 field from the gradient of this planet's internal field across the moon "
+                   "(with --spice: the SPICE planet ID; give the planet file as --planet-file)")
+    p.add_argument("--planet-file", metavar="PLANET.toml", help="the planet file of --planet (any mode)")
+    p.add_argument("--moon", help="with --planet: moon name (when the planet file has several moons); with --spice: "
+                   "the SPICE moon ID or name")
     p.add_argument("--residuals", metavar="FILE.csv",
                    help="also write synthetic residuals t_s,x_km,y_km,z_km,bx_nT,by_nT,bz_nT = induced field + "
                    "Gaussian noise of --noise-nT (input for induct fit)")
     p.add_argument("--seed", type=int, default=0, help="random seed of --residuals (default 0)")
     p.add_argument("--plot", metavar="FIG.png", help="figure of the field components and magnitude vs time, and altitude")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
+    add_track_options(p)
     return p
 
 
@@ -68,7 +81,12 @@ def _inputs(args):
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
-    planet = read_planet_file(args.planet) if args.planet else None
+    if args.planet and args.planet_file:
+        raise ValueError("give the planet file once: --planet or --planet-file")
+    planet_path = args.planet_file or args.planet
+    if args.moon and not planet_path:
+        raise ValueError("--moon needs --planet")
+    planet = read_planet_file(planet_path) if planet_path else None
     compare = load_scenario(args.compare) if args.compare else None
     return scenario, compare, planet
 
@@ -82,7 +100,9 @@ def _run_streamed(args) -> int:
     scenario, compare, planet = _inputs(args)
     pieces = (
         predict_flyby(scenario, track, compare=compare, planet=planet, moon=args.moon, noise_nT=args.noise_nt)
-        for track in iter_track_chunks(args.trajectory, frame=args.frame, chunk_rows=CHUNK_ROWS)
+        for track in iter_track_chunks(args.trajectory, frame=args.frame, chunk_rows=CHUNK_ROWS,
+                                       epoch_utc=scenario.epoch_utc, constants=time_constants(args)[0],
+                                       epoch_from=str(scenario.path or scenario.name))
     )
     residuals = (args.residuals, args.noise_nt, args.seed) if args.residuals else None
     summary = write_flyby_stream(args.out, pieces, compare_label=args.compare, residuals=residuals)
@@ -100,7 +120,6 @@ def predict(args):
     from induct.io.drive_files import read_planet_file
     from induct.flyby.prediction import predict_flyby
     from induct.io.scenario import load_scenario
-    from induct.io.tracks import read_track
 
     scenario = load_scenario(args.scenario)
     if not scenario.drive_lines:
@@ -108,10 +127,31 @@ def predict(args):
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
-    track = read_track(args.trajectory, frame=args.frame)
-    planet = read_planet_file(args.planet) if args.planet else None
+    if spice_requested(args):
+        # --moon/--planet name the SPICE bodies unless --spice-moon/--spice-planet do; then --moon may name the
+        # moon in the planet file.
+        planet_moon = args.moon if args.spice_moon is not None else None
+        args.spice_moon = args.spice_moon or args.moon
+        args.spice_planet = args.spice_planet or args.planet
+        planet_path = args.planet_file
+    else:
+        if args.planet and args.planet_file:
+            raise ValueError("give the planet file once: --planet or --planet-file")
+        planet_path, planet_moon = args.planet_file or args.planet, args.moon
+        if planet_moon and not planet_path:
+            raise ValueError("--moon needs --planet")
+    track, notes = track_from_args(args, scenario, frame=args.frame)
+    planet = read_planet_file(planet_path) if planet_path else None
+    if planet is not None and spice_requested(args) and planet_moon is None and len(planet.moons) > 1:
+        name = str(args.spice_moon).strip().lower()
+        planet_moon = next((m for m in planet.moons if m.lower() == name), None)
+        if planet_moon is None:
+            raise ValueError(f"{planet_path}: no moon named {args.spice_moon!r} (the file has "
+                             f"{', '.join(planet.moons)}); use --spice-moon ID with --moon NAME")
     compare = load_scenario(args.compare) if args.compare else None
-    return predict_flyby(scenario, track, compare=compare, planet=planet, moon=args.moon, noise_nT=args.noise_nt)
+    prediction = predict_flyby(scenario, track, compare=compare, planet=planet, moon=planet_moon,
+                               noise_nT=args.noise_nt)
+    return prediction, scenario, notes
 
 
 def format_flyby_summary(summary: dict, out, residuals=None, plot=None) -> str:
@@ -145,30 +185,41 @@ def format_flyby_summary(summary: dict, out, residuals=None, plot=None) -> str:
 
 def run(args) -> int:
     from induct.flyby.prediction import synthetic_residuals
-    from induct.io.flyby_files import write_flyby_fields, write_synthetic_residuals
+    from induct.io.flyby_files import write_flyby_cdf, write_flyby_fields, write_synthetic_residuals
     from induct.plot.flyby import plot_flyby
 
     if args.noise_nt is not None and not (np.isfinite(args.noise_nt) and args.noise_nt > 0):
         raise ValueError(f"--noise-nT must be > 0 nT, got {args.noise_nt!r}")
-    if args.moon and not args.planet:
-        raise ValueError("--moon needs --planet")
-    from induct.cli.budget import check_job, csv_rows_estimate
-
-    rows, size = csv_rows_estimate(args.trajectory)
-    per_row = 700.0 * (2 if args.compare else 1) + (200.0 if args.residuals else 0.0)
+    to_cdf = str(args.out).lower().endswith(".cdf")
+    if to_cdf:
+        require("cdflib", "--out FILE.cdf")
     if args.residuals and not args.noise_nt:
         raise ValueError("--residuals needs --noise-nT N (> 0), the noise added to the induced field")
-    if rows > STREAM_ROWS and not args.plot:
-        # long track: read, compute and write in pieces; memory is that of one piece
-        check_job(args, f"flyby along about {rows:.3g} track rows (streamed in pieces of {CHUNK_ROWS})",
-                  CHUNK_ROWS * (per_row + 200.0), seconds=rows / 2e5)
-        return _run_streamed(args)
-    # the file's text (2 bytes per byte as str) and, per row: parsed values, fields, CSV output text
-    check_job(args, f"flyby along about {rows:.3g} track rows" + (" (with --plot: held at once)" if args.plot else ""),
-              2 * size + rows * per_row, seconds=rows / 2e5)
-    prediction = predict(args)
+    if args.trajectory and not spice_requested(args):
+        from induct.cli.budget import check_job, csv_rows_estimate
+
+        rows, size = csv_rows_estimate(args.trajectory)
+        per_row = 700.0 * (2 if args.compare else 1) + (200.0 if args.residuals else 0.0)
+        if rows > STREAM_ROWS and not args.plot and not to_cdf:
+            # long track: read, compute and write in pieces; memory is that of one piece
+            check_job(args, f"flyby along about {rows:.3g} track rows (streamed in pieces of {CHUNK_ROWS})",
+                      CHUNK_ROWS * (per_row + 200.0), seconds=rows / 2e5)
+            return _run_streamed(args)
+        # the file's text (2 bytes per byte as str) and, per row: parsed values, fields, CSV output text
+        check_job(args, f"flyby along about {rows:.3g} track rows" + (" (held at once)" if args.plot or to_cdf else ""),
+                  2 * size + rows * per_row, seconds=rows / 2e5)
+    prediction, scenario, notes = predict(args)
     summary = prediction.to_dict(output=args.out)
-    write_flyby_fields(args.out, prediction, compare_label=args.compare)
+    summary["epoch_utc"] = scenario.epoch_utc
+    summary["notes"] = list(summary.get("notes", [])) + notes
+    if to_cdf:
+        if scenario.epoch_utc is None:
+            raise ValueError(f"{scenario.path or scenario.name}: --out {args.out}: a CDF file needs absolute times; "
+                             "give the scenario a [drive] epoch_utc")
+        constants, _ = time_constants(args)
+        write_flyby_cdf(args.out, prediction, scenario.epoch_utc, text=notes, constants=constants)
+    else:
+        write_flyby_fields(args.out, prediction, compare_label=args.compare, extra_comments=notes)
     if args.residuals:
         if not args.noise_nt:
             raise ValueError("--residuals needs --noise-nT N (> 0), the noise added to the induced field")
