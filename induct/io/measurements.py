@@ -138,7 +138,10 @@ class Measurements:
             factor = cho_factor(c, lower=True)
         except np.linalg.LinAlgError:
             raise ValueError(f"{self.source}: the covariance is not positive definite") from None
-        object.__setattr__(self, "_chol", np.tril(factor[0]))
+        chol = np.tril(factor[0])
+        object.__setattr__(self, "_chol", chol)
+        d = np.arange(0, 2 * self.n_entries, 2)
+        object.__setattr__(self, "_blocks", (chol[d, d], chol[d + 1, d], chol[d + 1, d + 1]))
 
     def total_covariance(self) -> np.ndarray:
         """The covariance of all 2M values, shape (2M, 2M), ordered (first, second) per entry in file order."""
@@ -162,9 +165,15 @@ class Measurements:
         -------
         ndarray, shape (..., 2M); its squared norm is the chi-square.
         """
+        r = np.asarray(resid, dtype=float)
+        if self.full_covariance is None:
+            # Block-diagonal C: each entry's 2 x 2 Cholesky factor, solved in closed form.
+            l11, l21, l22 = self._blocks
+            z1 = r[..., 0] / l11
+            z2 = (r[..., 1] - l21 * z1) / l22
+            return np.stack([z1, z2], axis=-1).reshape(r.shape[:-2] + (2 * self.n_entries,))
         from scipy.linalg import solve_triangular
 
-        r = np.asarray(resid, dtype=float)
         flat = r.reshape(-1, 2 * self.n_entries)
         z = solve_triangular(self._chol, flat.T, lower=True, check_finite=False).T
         return z.reshape(r.shape[:-2] + (2 * self.n_entries,))
@@ -300,7 +309,7 @@ def _check_sigma_size(value: float, key: str, where: str) -> None:
         )
 
 
-def _parse_entry(entry, where, full_cov=False):
+def _parse_entry(entry, where, full_cov=False, amplification=False):
     """One ``[[response]]`` table -> (period_h, degree, polar, values (2,), covariance (2, 2))."""
     if not isinstance(entry, dict):
         raise ValueError(f"{where}: each [[response]] must be a table, got {entry!r}")
@@ -319,16 +328,16 @@ def _parse_entry(entry, where, full_cov=False):
     if isinstance(degree, bool) or not isinstance(degree, int) or not 1 <= degree <= MAX_DEGREE:
         raise ValueError(f"{where}: degree must be an integer from 1 to {MAX_DEGREE}, got {degree!r}")
     if "cov" in entry:
-        return (period, degree, False) + _cartesian(entry, where)
+        return (period, degree, False) + _cartesian(entry, where, amplification)
     if full_cov and "real" in entry and "imag" in entry:
         return (period, degree, False, np.array([_number(entry, "real", where), _number(entry, "imag", where)]), None)
     present = [k for k in ("real", "imag") if k in entry]
     if present and not all(k in entry for k in _POLAR_KEYS):
         raise ValueError(f"{where}: {' and '.join(present)} need cov = [[var_re, cov], [cov, var_im]] (their covariance)")
-    return (period, degree, True) + _polar(entry, where)
+    return (period, degree, True) + _polar(entry, where, amplification)
 
 
-def _polar(entry, where):
+def _polar(entry, where, amplification=False):
     missing = [k for k in ("amplitude", "phase_lag_deg") if k not in entry]
     if missing:
         raise ValueError(
@@ -342,7 +351,7 @@ def _polar(entry, where):
     if amp < 0:
         raise ValueError(f"{where}: amplitude must be >= 0 (A = |R_n|), got {amp:g}")
     k = PHYSICAL_SIGMA_MARGIN
-    if amp > 1.0 + k * s_amp:
+    if amp > 1.0 + k * s_amp and not amplification:
         raise ValueError(
             f"{where}: amplitude = {amp:g} exceeds 1 by {(amp - 1.0) / s_amp:.1f} sigma: no interior gives A > 1 "
             f"(refused beyond {k:g} sigma; was the value typed in percent?)"
@@ -361,7 +370,7 @@ def _polar(entry, where):
     return np.array([amp, phase]), cov
 
 
-def _cartesian(entry, where):
+def _cartesian(entry, where, amplification=False):
     for key in ("real", "imag"):
         if key not in entry:
             raise ValueError(f"{where}: missing {key} (cov is given, so real, imag and cov are needed)")
@@ -380,17 +389,18 @@ def _cartesian(entry, where):
     c[1, 0] = c[0, 1]
     if c[0, 1] ** 2 >= c[0, 0] * c[1, 1]:
         raise ValueError(f"{where}: cov must be positive definite (|cov_re_im| < sqrt(var_re var_im)), got {cov!r}")
-    _check_cartesian_physics(re, im, c, where)
+    _check_cartesian_physics(re, im, c, where, amplification=amplification)
     return np.array([re, im]), c
 
 
-def _check_cartesian_physics(re: float, im: float, c: np.ndarray, where: str, key: str = "cov") -> None:
+def _check_cartesian_physics(re: float, im: float, c: np.ndarray, where: str, key: str = "cov",
+                             amplification: bool = False) -> None:
     """Refuse absurd sigmas and Re/Im values no interior can produce (beyond 5 sigma)."""
     for i, name in enumerate(("real", "imag")):
         _check_sigma_size(math.sqrt(c[i, i]), f"{key} (sigma of {name})", where)
     k = PHYSICAL_SIGMA_MARGIN
     amp = math.hypot(re, im)
-    if amp > 1.0:
+    if amp > 1.0 and not amplification:
         u = np.array([re, im]) / amp
         s = math.sqrt(float(u @ c @ u))
         if amp > 1.0 + k * s:
@@ -409,7 +419,7 @@ def _check_cartesian_physics(re: float, im: float, c: np.ndarray, where: str, ke
         )
 
 
-def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
+def parse_measurements(doc: dict, source: str = "measurements", *, amplification: bool = False) -> Measurements:
     """Check a parsed measurement document and build :class:`Measurements`.
 
     Parameters
@@ -418,6 +428,9 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
         The parsed TOML document with a non-empty ``response`` array of tables.
     source : str
         Name used in error messages and summaries.
+    amplification : bool
+        Accept amplitudes above 1 (a conducting sheet outside the reference radius, such
+        as an ionosphere, can give them; no interior can).
 
     Returns
     -------
@@ -442,7 +455,7 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
     if not isinstance(entries, list) or not entries:
         raise ValueError(f"{source}: needs at least one [[response]] table (period_h, amplitude, ... or real, imag, cov)")
     full_cov = "covariance" in doc
-    rows = [_parse_entry(e, f"{source}: [[response]] {i + 1}", full_cov) for i, e in enumerate(entries)]
+    rows = [_parse_entry(e, f"{source}: [[response]] {i + 1}", full_cov, amplification) for i, e in enumerate(entries)]
     period, degree, polar, values, cov = zip(*rows)
     full = None
     if full_cov:
@@ -450,7 +463,8 @@ def parse_measurements(doc: dict, source: str = "measurements") -> Measurements:
         cov = [full[2 * k : 2 * k + 2, 2 * k : 2 * k + 2] for k in range(len(rows))]
         for k, (row, e) in enumerate(zip(rows, entries)):
             where = f"{source}: [[response]] {k + 1}"
-            _check_cartesian_physics(row[3][0], row[3][1], cov[k], where, key="[covariance] block")
+            _check_cartesian_physics(row[3][0], row[3][1], cov[k], where, key="[covariance] block",
+                                     amplification=amplification)
             if row[4] is not None and not np.allclose(row[4], cov[k], rtol=1e-6, atol=0.0):
                 raise ValueError(f"{where}: cov differs from its 2 x 2 block of the [covariance] matrix")
     measurements = Measurements(
@@ -515,13 +529,15 @@ def resolve_data_path(name_or_path) -> Path:
     return resolve_bundled(name_or_path, ".toml", "measurement file")
 
 
-def load_measurements(name_or_path) -> Measurements:
+def load_measurements(name_or_path, *, amplification: bool = False) -> Measurements:
     """Read and check a measurement file (TOML; see the module docstring for the format).
 
     Parameters
     ----------
     name_or_path : str or Path
         A TOML file, or the stem of a bundled measurement file.
+    amplification : bool
+        Accept amplitudes above 1 (see :func:`parse_measurements`).
 
     Returns
     -------
@@ -530,4 +546,4 @@ def load_measurements(name_or_path) -> Measurements:
     from induct.io.toml import read_toml
 
     path = resolve_data_path(name_or_path)
-    return parse_measurements(read_toml(path), source=path.name)
+    return parse_measurements(read_toml(path), source=path.name, amplification=amplification)
