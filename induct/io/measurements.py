@@ -271,9 +271,8 @@ class Measurements:
             ``sum_k r_k^T C_k^-1 r_k`` (dimensionless); NaN for invalid models.
         """
         resid = self.predicted(response) - self.values
-        z = self.whiten(np.nan_to_num(resid, nan=0.0))
-        out = np.einsum("...i,...i->...", z, z)
-        return np.where(np.isnan(resid).any(axis=(-1, -2)), np.nan, out)
+        z = self.whiten(resid)  # NaN residuals propagate to NaN chi2
+        return np.einsum("...i,...i->...", z, z)
 
     def sigmas(self) -> np.ndarray:
         """1-sigma uncertainty of each value, shape (M, 2)."""
