@@ -41,7 +41,6 @@ _START_NODES = (16, 8, 16)
 _MAX_NODES = 256
 #: Random check points used to measure the interpolation error.
 _CHECK_POINTS = 400
-_debug = False
 
 
 def lagrange_weights(u: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
@@ -144,11 +143,8 @@ class OceanConductivityTable:
             self.values = np.log(self.exact(np.exp(grids[0].ravel()), grids[1].ravel(), grids[2].ravel())).reshape(grids[0].shape)
             got = self.interpolate(check[:, 0], check[:, 1], check[:, 2])
             self.max_rel_error = float(np.max(np.abs(got / exact - 1.0)))
-            if _debug:
-                print("table", counts, self.max_rel_error)
             if self.max_rel_error < self.rtol:
                 break
-            # Refine the axis whose removal of half its nodes hurts most: double every axis with an error.
             if max(counts) >= _MAX_NODES:
                 raise ValueError(
                     f"the conductivity table did not reach a relative error of {self.rtol:g} with {_MAX_NODES} nodes "
@@ -243,10 +239,6 @@ def table_ranges_note(table: OceanConductivityTable) -> str:
     """One line describing a table (for benchmarks and logs)."""
     return (f"{table.solute} conductivity table {table.counts[0]} x {table.counts[1]} x {table.counts[2]} nodes, "
             f"max relative error {table.max_rel_error:.2g} (measured at {_CHECK_POINTS} random points)")
-
-
-def _isfinite(x) -> bool:
-    return bool(np.all(np.isfinite(x))) and not math.isnan(float(np.max(x)))
 
 
 def build_ocean_tables(model, ranges: dict, rtol: float = TABLE_RTOL) -> dict:

@@ -139,8 +139,12 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
     ]
     if result.method == "grid":
         shape = " x ".join(str(n) for n in result.grid_points)
+        refined = len((result.resolution or {}).get("levels", [])) > 1
         lines.append(
-            f"method: exact posterior on a {shape} grid of equal-prior-mass cells ({result.n_models:,d} possible models, "
+            f"method: exact posterior on a {shape} grid of equal-prior-mass cells"
+            + (" (adaptively refined: only cells near the posterior mass evaluated at this level; "
+               if refined else " (")
+            + f"{result.n_models:,d} possible models, "
             f"{result.n_impossible:,d} physically impossible with zero prior); uniform / log-uniform priors, Gaussian likelihood"
         )
     else:
