@@ -245,7 +245,7 @@ def run_inversion_benchmark(grid_points: int = 120, progress: bool = False) -> I
     }
     before = _current_rss_mb()
     t0 = time.perf_counter()
-    result = invert(sc.model, data, table, sampler="grid", grid_points=grid_points, progress=progress)
+    result = invert(sc.model, data, table, sampler="grid", grid_points=grid_points, progress=progress, refine=False)
     seconds = time.perf_counter() - t0
     peak = _peak_rss_mb()
     model_periods = grid_points**3 * data.n_entries

@@ -263,8 +263,9 @@ class ResponseFit:
         """A measurement file (read by :func:`induct.io.measurements.load_measurements`) with the fitted responses.
 
         Each determined period becomes a ``[[response]]`` table in the covariance form
-        (``real``, ``imag``, ``cov``) plus the amplitude/phase-lag form for reading;
-        cross-period covariances cannot be written in this format and are dropped.
+        (``real``, ``imag``, ``cov``) plus the amplitude/phase-lag form for reading; with
+        more than one entry, the full covariance across entries (between periods and
+        components) is written as a top-level ``[covariance]`` table (order ``re_im``).
 
         Parameters
         ----------
@@ -304,8 +305,18 @@ class ResponseFit:
             corr = self.correlation[np.ix_(idx, idx)]
             cross = max(float(np.max(np.abs(corr[2 * a: 2 * a + 2, 2 * b: 2 * b + 2])))
                         for a in range(len(k)) for b in range(len(k)) if a != b)
-            out.append(f"# Largest cross-period correlation of the written entries (dropped in this format): {cross:.3f}")
+            out.append(f"# Largest cross-period correlation of the written entries: {cross:.3f} (kept in [covariance])")
         out.append("")
+        if len(k) > 1:
+            full = self.covariance[np.ix_(idx, idx)]
+            out.append("# Full covariance of the written entries' (Re R, Im R) pairs, in file order (fit covariance)")
+            out.append("[covariance]")
+            out.append('order = "re_im"')
+            out.append("matrix = [")
+            for row in full:
+                out.append("  [" + ", ".join(repr(float(v)) for v in row) + "],")
+            out.append("]")
+            out.append("")
         if source:
             out.append("[source]")
             for key, value in source.items():

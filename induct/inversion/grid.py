@@ -27,7 +27,7 @@ every convention reported with the result.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Mapping, Sequence
 
 import numpy as np
@@ -45,6 +45,7 @@ from induct.inversion.posterior import (
     two_sigma_delta_chi2,
 )
 from induct.inversion.priors import Parameter, ParameterMap, parse_parameters
+from induct.inversion.fitquality import DEFAULT_MIN_P_VALUE, fit_quality, refine_optimum
 
 __all__ = [
     "GridSetup",
@@ -53,6 +54,11 @@ __all__ = [
     "combine_partials",
     "make_grid_setup",
     "run_grid",
+    "run_adaptive_grid",
+    "SubsetTask",
+    "bound_shift",
+    "add_fit_quality",
+    "misfit_message",
     "forward_grid",
     "invert",
     "DEFAULT_GRID_POINTS",
@@ -69,6 +75,16 @@ DEFAULT_LIST_CAP = 200
 GRID_TASK_MODELS = 65_536
 #: Above this many free parameters the default sampler is MCMC.
 MAX_GRID_PARAMETERS = 4
+#: Cells with chi2 - chi2_min above this carry less than exp(-25) ~ 1e-11 of the peak density
+#: (negligible mass); adaptive refinement subdivides only the others and their neighbours.
+ACTIVE_DELTA_CHI2 = 50.0
+#: Reported 68 % and 95 % bounds must move by less than this fraction of the prior width when
+#: the resolution doubles (the resolution check).
+RESOLUTION_TOLERANCE = 0.01
+#: Most resolution doublings of the adaptive refinement.
+MAX_REFINEMENTS = 3
+#: Most cells evaluated at one refinement level.
+MAX_REFINED_CELLS = 3_000_000
 
 
 @dataclass(frozen=True)
@@ -159,6 +175,9 @@ class GridPartial:
         The lowest chi2 values of the slice and their flat indices, sorted.
     delta_chi2 : float
     cap : int
+    active_index, active_chi2 : ndarray, shape (A,)
+        Flat indices and chi2 of the cells with chi2 <= ref + ACTIVE_DELTA_CHI2 (where the
+        posterior mass is; the cells subdivided by adaptive refinement).
     """
 
     ref: float
@@ -174,6 +193,8 @@ class GridPartial:
     cap: int
     n_within_sure: int = 0
     n_within_dropped: int = 0
+    active_index: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.int64))
+    active_chi2: np.ndarray = field(default_factory=lambda: np.empty(0))
 
 
 #: Largest number of chi-square values kept for the exact 2-sigma count (16 MB); see :func:`_bound_within`.
@@ -226,7 +247,39 @@ class GridTask:
         return _partial(s, start, index, chi2)
 
 
-def _partial(s: GridSetup, start: int, index: tuple, chi2: np.ndarray) -> GridPartial:
+class SubsetTask:
+    """``task(start, stop) -> GridPartial`` over a chosen list of cells of a :class:`GridSetup` (pure; picklable).
+
+    Parameters
+    ----------
+    setup : GridSetup
+    cells : ndarray of int, shape (K,)
+        Flat (C-order) indices of the cells to evaluate; the others get zero posterior mass.
+    """
+
+    def __init__(self, setup: GridSetup, cells: np.ndarray):
+        self.setup = setup
+        self.cells = np.asarray(cells, dtype=np.int64)
+
+    @property
+    def size(self) -> int:
+        """Number of cells evaluated."""
+        return int(self.cells.size)
+
+    def __call__(self, start: int, stop: int) -> GridPartial:
+        """Evaluate listed cells ``start`` to ``stop - 1``."""
+        s = self.setup
+        flat = self.cells[start:stop]
+        index = np.unravel_index(flat, s.shape)
+        mids = s.midpoints()
+        columns = [m[i] for m, i in zip(mids, index)]
+        resp = s.pmap.responses(columns, s.measurements.period_h, s.measurements.degree)
+        return _partial(s, flat, index, s.measurements.chi2(resp))
+
+
+def _partial(s: GridSetup, start, index: tuple, chi2: np.ndarray) -> GridPartial:
+    """Partial result of evaluated cells; ``start`` is the first flat index (contiguous) or the flat indices."""
+    flat = start + np.arange(chi2.size, dtype=np.int64) if np.ndim(start) == 0 else np.asarray(start, dtype=np.int64)
     valid = np.isfinite(chi2)
     n_valid = int(valid.sum())
     k = len(s.points)
@@ -245,8 +298,9 @@ def _partial(s: GridSetup, start: int, index: tuple, chi2: np.ndarray) -> GridPa
     maps = {}
     for i in range(k):
         for j in range(i + 1, k):
-            flat = index[i] * s.points[j] + index[j]
-            maps[(i, j)] = np.bincount(flat, weights=w, minlength=s.points[i] * s.points[j]).reshape(s.points[i], s.points[j])
+            pair = index[i] * s.points[j] + index[j]
+            maps[(i, j)] = np.bincount(pair, weights=w, minlength=s.points[i] * s.points[j]).reshape(s.points[i], s.points[j])
+    act = np.flatnonzero(c <= ref + ACTIVE_DELTA_CHI2)
     inside = np.flatnonzero(c <= ref + s.delta_chi2)
     listed = inside
     if inside.size > s.cap:
@@ -254,9 +308,10 @@ def _partial(s: GridSetup, start: int, index: tuple, chi2: np.ndarray) -> GridPa
     listed = listed[np.lexsort((listed, c[listed]))]
     within, sure, dropped = _bound_within(c[inside], s.delta_chi2, 0, 0)
     return GridPartial(
-        ref=ref, best_index=start + best, marginals=marginals, maps=maps, n_valid=n_valid, n_cells=int(chi2.size),
-        within=within, listed_chi2=c[listed], listed_index=(start + listed).astype(np.int64),
+        ref=ref, best_index=int(flat[best]), marginals=marginals, maps=maps, n_valid=n_valid, n_cells=int(chi2.size),
+        within=within, listed_chi2=c[listed], listed_index=flat[listed].astype(np.int64),
         delta_chi2=s.delta_chi2, cap=s.cap, n_within_sure=sure, n_within_dropped=dropped,
+        active_index=flat[act], active_chi2=c[act],
     )
 
 
@@ -278,10 +333,14 @@ def combine_partials(a: GridPartial, b: GridPartial) -> GridPartial:
     keep = chi2 <= limit
     chi2, idx = chi2[keep], idx[keep]
     order = np.lexsort((idx, chi2))[: a.cap]
+    act_chi2 = np.concatenate([a.active_chi2, b.active_chi2])
+    act_idx = np.concatenate([a.active_index, b.active_index])
+    keep = act_chi2 <= ref + ACTIVE_DELTA_CHI2
     return GridPartial(
         ref=ref, best_index=a.best_index, marginals=marginals, maps=maps, n_valid=a.n_valid + b.n_valid,
         n_cells=a.n_cells + b.n_cells, within=within, listed_chi2=chi2[order], listed_index=idx[order],
         delta_chi2=a.delta_chi2, cap=a.cap, n_within_sure=sure, n_within_dropped=dropped,
+        active_index=act_idx[keep], active_chi2=act_chi2[keep],
     )
 
 
@@ -418,6 +477,125 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
     )
 
 
+def _children(coarse: GridSetup, fine: GridSetup, active: np.ndarray) -> np.ndarray:
+    """Flat indices of the fine cells inside the active coarse cells and their neighbours (sorted)."""
+    from itertools import product
+
+    from scipy.ndimage import binary_dilation
+
+    mask = np.zeros(coarse.shape, dtype=bool)
+    mask.flat[np.asarray(active, dtype=np.int64)] = True
+    mask = binary_dilation(mask, structure=np.ones((3,) * len(coarse.shape), dtype=bool))
+    idx = np.nonzero(mask)
+    out = []
+    for offset in product((0, 1), repeat=len(idx)):
+        out.append(np.ravel_multi_index(tuple(2 * i + o for i, o in zip(idx, offset)), fine.shape))
+    return np.sort(np.concatenate(out))
+
+
+def bound_shift(a: PosteriorResult, b: PosteriorResult) -> float:
+    """Largest move of any reported 68 % or 95 % bound between two results, as a fraction of its prior width."""
+    worst = 0.0
+    for p in a.parameters:
+        lo, hi = p.prior_bounds
+        for level in ("68", "95"):
+            u = p.to_prior(a.ranges[p.name][level])
+            v = p.to_prior(b.ranges[p.name][level])
+            worst = max(worst, float(np.max(np.abs(u - v))) / (hi - lo))
+    return worst
+
+
+def run_adaptive_grid(
+    setup: GridSetup,
+    *,
+    backend=None,
+    progress: bool = False,
+    chunk_size: int = GRID_TASK_MODELS,
+    tolerance: float = RESOLUTION_TOLERANCE,
+    max_refinements: int = MAX_REFINEMENTS,
+    max_cells: int = MAX_REFINED_CELLS,
+) -> PosteriorResult:
+    """Grid posterior refined where the mass is until the reported bounds stop moving.
+
+    The full grid is evaluated first. Then the resolution is doubled on every axis, but
+    only inside cells with chi2 - chi2_min <= :data:`ACTIVE_DELTA_CHI2` and their
+    neighbours (the rest carry less than 1e-11 of the peak density), and the 68 % and
+    95 % bounds of the two levels are compared. Doubling repeats until no bound moves by
+    more than ``tolerance`` of its prior width (default 1 %), or ``max_refinements``
+    doublings, or a level would need more than ``max_cells`` cells. The finest level is
+    reported; the check is in ``result.resolution``.
+
+    Parameters
+    ----------
+    setup : GridSetup
+        The starting grid.
+    backend, progress, chunk_size
+        As for :func:`run_grid`.
+    tolerance : float
+        Largest accepted move of a bound, as a fraction of the prior width.
+    max_refinements : int
+        Most doublings (0: the check is not made).
+    max_cells : int
+        Most cells evaluated at one level.
+
+    Returns
+    -------
+    PosteriorResult
+        With ``resolution = {"tolerance", "levels", "cells", "shifts", "max_shift", "converged"}``.
+    """
+    part = run_reduction(GridTask(setup), setup.total, chunk_size=chunk_size, combine=combine_partials,
+                         backend=backend, desc="inversion grid", progress=progress)
+    res = summarise_grid(setup, part)
+    levels, cells, shifts = [list(setup.points)], [int(setup.total)], []
+    converged = False
+    stop_reason = "no refinement requested" if max_refinements <= 0 else ""
+    cur = setup
+    for _ in range(max(0, int(max_refinements))):
+        fine = GridSetup(cur.pmap, cur.measurements, tuple(2 * n for n in cur.points), cur.delta_chi2, cur.cap)
+        if part.active_index.size * 2 ** len(cur.points) > max_cells:
+            stop_reason = f"the next level would need more than {max_cells:,d} cells"
+            break
+        sub = _children(cur, fine, part.active_index)
+        if sub.size > max_cells:
+            stop_reason = f"the next level would need {sub.size:,d} cells (more than {max_cells:,d})"
+            break
+        task = SubsetTask(fine, sub)
+        part_f = run_reduction(task, task.size, chunk_size=chunk_size, combine=combine_partials, backend=backend,
+                               desc="refining grid", progress=progress)
+        res_f = summarise_grid(fine, part_f)
+        shifts.append(bound_shift(res, res_f))
+        levels.append(list(fine.points))
+        cells.append(int(sub.size))
+        cur, part, res = fine, part_f, res_f
+        if shifts[-1] < tolerance:
+            converged = True
+            break
+    else:
+        if max_refinements > 0:
+            stop_reason = f"still moving after {max_refinements} doublings"
+    res.resolution = {
+        "tolerance": float(tolerance),
+        "levels": levels,
+        "cells": cells,
+        "shifts": shifts,
+        "max_shift": shifts[-1] if shifts else None,
+        "converged": converged,
+        "stopped": stop_reason,
+        "definition": (
+            "largest move of any 68 % or 95 % bound, as a fraction of the prior width, between the last two "
+            "resolutions (each doubling the points per axis where chi2 - chi2_min <= "
+            f"{ACTIVE_DELTA_CHI2:g} and in the neighbouring cells)"
+        ),
+    }
+    if not converged:
+        what = "" if not shifts else f" (last doubling moved a bound by {100 * shifts[-1]:.2f} % of its prior width)"
+        res.notes.append(
+            f"the ranges are not resolved to {100 * tolerance:g} % of the prior width{what}: {stop_reason}; "
+            "rerun with more --grid points or narrower priors"
+        )
+    return res
+
+
 def invert(
     model: InteriorModel,
     measurements: Measurements,
@@ -432,8 +610,11 @@ def invert(
     steps: int | None = None,
     walkers: int | None = None,
     seed: int = 0,
+    refine: bool = True,
+    max_refinements: int = MAX_REFINEMENTS,
+    min_p_value: float = DEFAULT_MIN_P_VALUE,
 ) -> PosteriorResult:
-    """Posterior ranges of the free parameters of ``model`` given ``measurements``.
+    """Posterior ranges of the free parameters of ``model`` given ``measurements``, with the fit quality.
 
     Parameters
     ----------
@@ -447,8 +628,8 @@ def invert(
     sampler : {"auto", "grid", "mcmc"}
         ``"auto"``: grid for up to 4 free parameters, MCMC above.
     grid_points : int or sequence of int, optional
-        Grid points per axis (>= 2; default 60). For MCMC: histogram bins of
-        the marginal maps.
+        Grid points per axis (>= 2; default 60) of the starting grid. For MCMC:
+        histogram bins of the marginal maps.
     cap : int
         How many 2-sigma combinations to list.
     backend : induct.parallel.execution.Backend, optional
@@ -459,16 +640,35 @@ def invert(
         Grid cells per task.
     steps, walkers, seed : int, optional
         MCMC settings (see :func:`induct.inversion.mcmc.run_mcmc`).
+    refine : bool
+        Grid: refine adaptively and check the resolution (:func:`run_adaptive_grid`).
+    max_refinements : int
+        Grid: most resolution doublings.
+    min_p_value : float
+        p-value below which ``result.fit["acceptable"]`` is False (default 1e-3).
 
     Returns
     -------
     PosteriorResult
+        ``best`` and ``chi2_min`` are the locally refined optimum
+        (:func:`induct.inversion.fitquality.refine_optimum`); ``fit`` holds ``dof``,
+        ``p_value`` and the verdict; ``resolution`` the grid's resolution check.
 
     Raises
     ------
     ValueError
         Bad parameter names or ranges, grid < 2, physically impossible
         ranges, an unknown sampler.
+
+    Examples
+    --------
+    >>> from induct.io.scenario import load_scenario
+    >>> from induct.io.measurements import load_measurements
+    >>> sc = load_scenario("ilmare")
+    >>> res = invert(sc.model, load_measurements("ilmare_measured"),
+    ...              {"ocean.thickness_km": {"range": [5, 250]}}, grid_points=20)
+    >>> res.fit["dof"], res.resolution["converged"]
+    (5, True)
     """
     if isinstance(parameters, Mapping):
         parameters = parse_parameters(parameters, model)
@@ -481,8 +681,42 @@ def invert(
     points = DEFAULT_GRID_POINTS if grid_points is None else grid_points
     if sampler == "grid":
         setup = make_grid_setup(pmap, measurements, points, cap)
-        return run_grid(setup, backend=backend, progress=progress, chunk_size=chunk_size)
-    from induct.inversion.mcmc import run_mcmc
+        if refine:
+            result = run_adaptive_grid(setup, backend=backend, progress=progress, chunk_size=chunk_size,
+                                       max_refinements=max_refinements)
+        else:
+            result = run_grid(setup, backend=backend, progress=progress, chunk_size=chunk_size)
+    else:
+        from induct.inversion.mcmc import run_mcmc
 
-    return run_mcmc(pmap, measurements, bins=_grid_points(points, k), cap=cap, steps=steps, walkers=walkers,
-                    seed=seed, progress=progress)
+        result = run_mcmc(pmap, measurements, bins=_grid_points(points, k), cap=cap, steps=steps, walkers=walkers,
+                          seed=seed, progress=progress)
+    if not isinstance(result, PosteriorResult):  # a substituted sampler (tests)
+        return result
+    return add_fit_quality(result, pmap, measurements, min_p_value)
+
+
+def add_fit_quality(result: PosteriorResult, pmap: ParameterMap, measurements: Measurements,
+                    min_p_value: float = DEFAULT_MIN_P_VALUE) -> PosteriorResult:
+    """Refine the best evaluated model locally; attach the optimum, chi2_min, dof, p-value and verdict as ``result.fit``.
+
+    ``result.best`` and ``result.chi2_min`` stay the best evaluated model; ``result.fit["best"]``
+    and ``result.fit["chi2_min"]`` are the refined optimum (never worse).
+    """
+    best, chi2 = refine_optimum(pmap, measurements, result.best)
+    if not chi2 < result.chi2_min:
+        best, chi2 = dict(result.best), float(result.chi2_min)
+    result.fit = fit_quality(chi2, measurements.n_data, len(pmap.parameters), min_p_value)
+    result.fit["best"] = best
+    if not result.fit["acceptable"]:
+        result.notes.insert(0, misfit_message(result.fit))
+    return result
+
+
+def misfit_message(fit: dict) -> str:
+    """The sentence saying that the model family cannot explain the data."""
+    return (
+        f"the model family cannot explain the data: chi2_min = {fit['chi2_min']:.4g} for {fit['dof']} degrees of "
+        f"freedom, p = {fit['p_value']:.3g} < {fit['min_p_value']:g}; the ranges are not results (check the data and "
+        "their errors, or allow for fields the model leaves out with a model-error term)"
+    )

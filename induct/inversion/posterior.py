@@ -119,6 +119,12 @@ class PosteriorResult:
         Further cautions (for example a grid too coarse for a narrow posterior).
     grid_points : tuple of int
         Points per axis (grid) or histogram bins per axis (MCMC).
+    interval : str
+    fit : dict
+        ``chi2_min``, ``dof``, ``p_value``, ``min_p_value``, ``acceptable``
+        (:func:`induct.inversion.fitquality.fit_quality`).
+    resolution : dict
+        The grid's resolution check (:func:`induct.inversion.grid.run_adaptive_grid`).
     """
 
     method: str
@@ -139,14 +145,25 @@ class PosteriorResult:
     notes: list = field(default_factory=list)
     grid_points: tuple = ()
     interval: str = INTERVAL_KIND
+    fit: dict = field(default_factory=dict)
+    resolution: dict = field(default_factory=dict)
+
+    @property
+    def converged(self) -> bool:
+        """True when the grid's resolution check passed (grid) or the sampler converged (MCMC)."""
+        if self.method == "grid":
+            return bool(self.resolution.get("converged", False))
+        return bool(self.diagnostics.get("converged", False))
 
     def to_dict(self) -> dict:
         """JSON-ready summary: ``{"ranges": {name: {"best", "68", "95", ...}}, "chi2_min", "n_models", ...}``."""
         ranges = {}
+        best = self.fit.get("best", self.best)
         for p in self.parameters:
             r = self.ranges[p.name]
             ranges[p.name] = {
-                "best": float(self.best[p.name]),
+                "best": float(best[p.name]),
+                "best_evaluated": float(self.best[p.name]),
                 "68": [float(v) for v in r["68"]],
                 "95": [float(v) for v in r["95"]],
                 "unit": p.unit,
@@ -156,7 +173,8 @@ class PosteriorResult:
         names = [p.name for p in self.parameters]
         return {
             "ranges": ranges,
-            "chi2_min": float(self.chi2_min),
+            "chi2_min": float(self.fit.get("chi2_min", self.chi2_min)),
+            "chi2_min_evaluated": float(self.chi2_min),
             "n_models": int(self.n_models),
             "n_impossible": int(self.n_impossible),
             "n_data": int(self.n_data),
@@ -180,6 +198,12 @@ class PosteriorResult:
                 "dropped": int(self.two_sigma.dropped),
             },
             "diagnostics": _jsonable(self.diagnostics),
+            "dof": self.fit.get("dof"),
+            "p_value": self.fit.get("p_value"),
+            "fit_acceptable": self.fit.get("acceptable"),
+            "min_p_value": self.fit.get("min_p_value"),
+            "converged": self.converged,
+            "resolution_check": _jsonable(self.resolution) if self.resolution else None,
             "not_modelled": MODEL_LIMITS,
         }
 

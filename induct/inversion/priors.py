@@ -122,6 +122,12 @@ class ParameterMap:
     parameters : sequence of Parameter
         The free parameters (checked by :func:`parse_parameters`).
 
+    tabulate : bool
+        With salinity or temperature free, interpolate the ocean's conductivity from a
+        table of the same ocean model (:mod:`induct.model.ocean_table`, relative error
+        below 2e-6 measured when built) instead of evaluating the brine model at every
+        sub-layer (default True; False: the exact path).
+
     Raises
     ------
     ValueError
@@ -129,11 +135,16 @@ class ParameterMap:
         available, or the layer lacks what the brine model needs.
     """
 
-    def __init__(self, model: InteriorModel, parameters: Sequence[Parameter]):
+    def __init__(self, model: InteriorModel, parameters: Sequence[Parameter], *, tabulate: bool = True):
         self.model = model
         self.parameters = tuple(parameters)
+        self.ocean_tables = {}
         if any(p.field in ("salinity_g_per_kg", "temperature_C") for p in self.parameters):
             self._check_corners()
+            if tabulate:
+                from induct.model.ocean_table import build_ocean_tables
+
+                self.ocean_tables = build_ocean_tables(model, {p.name: (p.lo, p.hi) for p in self.parameters})
 
     def _check_corners(self):
         """Evaluate the ocean model at the corners of the prior ranges so that bad ranges fail early."""
@@ -182,5 +193,6 @@ class ParameterMap:
         out = np.empty((n, period_h.size), dtype=complex)
         for deg in np.unique(degree):
             sel = np.flatnonzero(degree == deg)
-            out[:, sel] = self.model.sweep_response(values, period_h[sel] * 3600.0, int(deg))
+            out[:, sel] = self.model.sweep_response(values, period_h[sel] * 3600.0, int(deg),
+                                                    ocean_tables=self.ocean_tables)
         return out

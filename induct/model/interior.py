@@ -339,7 +339,7 @@ class InteriorModel:
         return InteriorModel(self.radius_km, layers, self.ionosphere, self.name)
 
     # ------------------------------------------------------- vectorised sweeps
-    def parameter_arrays(self, values: Mapping[str, np.ndarray]):
+    def parameter_arrays(self, values: Mapping[str, np.ndarray], ocean_tables: Mapping | None = None):
         """Layer arrays for many variants of this model at once (for sweeps and inversions).
 
         Parameters
@@ -354,6 +354,11 @@ class InteriorModel:
             model (:func:`induct.model.ocean.ocean_sublayers`, with the sub-layer
             count of the scenario's converged profile) whenever its salinity or
             temperature or any thickness varies; otherwise its profile is reused.
+
+        ocean_tables : mapping, optional
+            ``layer name -> OceanConductivityTable``: interpolate those oceans' conductivities
+            (:mod:`induct.model.ocean_table`) instead of evaluating the brine model at every
+            sub-layer; pressures and sub-layers are unchanged.
 
         Returns
         -------
@@ -393,7 +398,7 @@ class InteriorModel:
             elif profiles[i] is not None:
                 chem_varies = any((layer.name, f) in parsed for f in ("salinity_g_per_kg", "temperature_C"))
                 if chem_varies or thickness_varies:
-                    sigma_cols.append(self._ocean_batch(i, safe, parsed, batch))
+                    sigma_cols.append(self._ocean_batch(i, safe, parsed, batch, (ocean_tables or {}).get(layer.name)))
                 else:
                     sigma_cols.append(np.broadcast_to(profiles[i], batch + profiles[i].shape))
             else:
@@ -413,7 +418,7 @@ class InteriorModel:
             ion = np.full(batch, self.ionosphere.conductance_S)
         return radii, sigma[..., ::-1].copy(), valid, (None if ion is None else np.broadcast_to(ion, batch))
 
-    def _ocean_batch(self, i: int, thick: np.ndarray, parsed: dict, batch: tuple) -> np.ndarray:
+    def _ocean_batch(self, i: int, thick: np.ndarray, parsed: dict, batch: tuple, table=None) -> np.ndarray:
         """Sub-layer conductivities (..., S), top first, of chemistry layer ``i`` for every variant."""
         layer = self.layers[i]
         chem = layer_chemistry(layer)
@@ -432,7 +437,7 @@ class InteriorModel:
         try:
             _, _, _, sigma, flags = ocean_sublayers(
                 chem["solute"], keys[:, nl], None if temperature is None else keys[:, nl + 1],
-                chem["temperature_profile"], nl - 1 - i, radii, density, nsub)
+                chem["temperature_profile"], nl - 1 - i, radii, density, nsub, table=table)
         except ValueError as exc:
             raise ValueError(f"layer {layer.name!r}: {exc}") from None
         if np.any(flags):
@@ -443,7 +448,8 @@ class InteriorModel:
             )
         return sigma[inverse.ravel()].reshape(batch + (nsub,))
 
-    def sweep_response(self, values: Mapping[str, np.ndarray], periods_s, degree: int = 1) -> np.ndarray:
+    def sweep_response(self, values: Mapping[str, np.ndarray], periods_s, degree: int = 1,
+                       ocean_tables: Mapping | None = None) -> np.ndarray:
         """R_n for many variants at many periods.
 
         Parameters
@@ -454,13 +460,15 @@ class InteriorModel:
             Periods (s).
         degree : int
             Degree n.
+        ocean_tables : mapping, optional
+            As for :meth:`parameter_arrays`.
 
         Returns
         -------
         ndarray of complex, shape (..., P); NaN where the variant is invalid.
         """
         periods = _periods_seconds(periods_s, None)
-        radii, sigma, valid, ion = self.parameter_arrays(values)
+        radii, sigma, valid, ion = self.parameter_arrays(values, ocean_tables)
         if np.any(~np.isfinite(sigma)[..., 1:]) or np.any(np.isnan(sigma)) or np.any(sigma < 0):
             raise ValueError("conductivity values must be >= 0 and finite (inf only in the innermost layer)")
         # The radii are built here (increasing, positive) and the conductivities checked above:

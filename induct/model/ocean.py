@@ -363,7 +363,7 @@ def is_chemistry_layer(layer) -> bool:
 
 
 def ocean_sublayers(solute, salinity_g_per_kg, temperature_C, temperature_profile, layer_index, radii_m,
-                    density_kg_per_m3, sublayers, *, warn=False):
+                    density_kg_per_m3, sublayers, *, warn=False, table=None):
     """Unchecked kernel: pressure, temperature and conductivity of an ocean's equal sub-layers.
 
     The one ocean model of induct, used by forward runs (:func:`resolve_chemistry_layers`) and by
@@ -392,6 +392,10 @@ def ocean_sublayers(solute, salinity_g_per_kg, temperature_C, temperature_profil
         Number of equal sub-layers S.
     warn : bool
         Let :mod:`induct.brine` issue its extrapolation warnings.
+    table : induct.model.ocean_table.OceanConductivityTable, optional
+        Interpolate the conductivity from this table of the same model (pressures and
+        gravity are computed exactly as always). Used only when every point lies inside
+        the table; the temperatures are then not computed (NaN) and no flags are set.
 
     Returns
     -------
@@ -411,6 +415,15 @@ def ocean_sublayers(solute, salinity_g_per_kg, temperature_C, temperature_profil
     p_top = hydrostatic_pressure_MPa(r_top[..., None], radii, density_kg_per_m3)[..., 0]
     p = hydrostatic_pressure_MPa(mid, radii, density_kg_per_m3)
     salinity = np.broadcast_to(np.asarray(salinity_g_per_kg, dtype=float), r_top.shape)
+    if table is not None and (temperature_C is None) != table.fixed_temperature:
+        if table.fixed_temperature:
+            second, press = np.broadcast_to(np.asarray(temperature_C, dtype=float), r_top.shape), p
+        else:
+            second, press = p_top, p - p_top[..., None]
+        if np.all(table.covers(salinity[..., None], second[..., None], press)):
+            rows = table.rows(salinity, second)
+            sigma = table.along(rows, press.reshape(rows.shape[0], -1)).reshape(p.shape)
+            return mid, p, np.full(p.shape, np.nan), sigma, np.zeros(p.shape, dtype=int)
     if temperature_C is None:
         top_t = np.asarray(brine.freezing_point(solute, salinity, p_top, warn=warn), dtype=float)
     else:

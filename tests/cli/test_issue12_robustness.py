@@ -282,7 +282,7 @@ MEASUREMENT_CASES = [
     ("[map]\nquantity = 'x'\n" + RESPONSE.format(a="0.01", p="1.0"), "unknown top-level key 'map'"),
     ("[[response]]\nperiod_h = 12.12\nreal = 0.9\nimag = 0.1\ncov = [[1e300, 0.0], [0.0, 1e-4]]\n",
      "cov variances must be between"),
-    (RESPONSE.format(a="0.01", p="1.0").replace("amplitude = 0.9", "amplitude = 1e300"), "amplitude must be between"),
+    (RESPONSE.format(a="0.01", p="1.0").replace("amplitude = 0.9", "amplitude = 1e300"), "amplitude = 1e+300 exceeds 1"),
 ]
 
 

@@ -35,6 +35,11 @@ def register(subparsers):
                    help="instead: time a 3-parameter grid inversion (Ilmare, 3 periods) and its peak memory")
     p.add_argument("--inversion-grid", type=int, default=120, metavar="N",
                    help="grid points per axis for --inversion (default 120: 5.2 million model-periods)")
+    p.add_argument("--salinity", action="store_true",
+                   help="instead: time a salinity x ice thickness x ocean thickness grid through the chemistry ocean "
+                        "(ilmare_brine, 3 periods) with the tabulated conductivity, against the exact path")
+    p.add_argument("--salinity-grid", type=int, default=60, metavar="N",
+                   help="grid points per axis for --salinity (default 60: 216,000 cells)")
     p.add_argument("--flyby", action="store_true",
                    help="instead: time the induced field along a trajectory (Ilmare, its 5 driving lines)")
     p.add_argument("--flyby-points", type=int, default=1_000_000, metavar="N",
@@ -63,6 +68,8 @@ def run(args) -> int:
         return _run_plan(args)
     if getattr(args, "flyby", False):
         return _run_flyby(args)
+    if getattr(args, "salinity", False):
+        return _run_salinity(args)
     if getattr(args, "map", False):
         return _run_map(args)
     if getattr(args, "inversion", False):
@@ -86,6 +93,28 @@ def run(args) -> int:
         f"{res.baseline_throughput:12,.0f} model-periods/s (same recursion, scipy ive/kve per layer)"
     )
     print(f"  speed-up over baseline: {res.speedup:.1f}x; largest relative difference kernel vs baseline: {res.max_relative_difference:.1e}")
+    return 0
+
+
+def _run_salinity(args) -> int:
+    from induct.bench.salinity import run_salinity_benchmark
+
+    if args.salinity_grid < 2:
+        raise ValueError(f"--salinity-grid must be >= 2 points per axis, got {args.salinity_grid}")
+    res = run_salinity_benchmark(args.salinity_grid, progress=not args.json)
+    if _printed_json(args, res):
+        return 0
+    n = res.grid_points
+    print(_header(" --salinity", ", numpy kernel, one process"))
+    print(f"  ilmare_brine (MgSO4 ocean, {res.sublayers} sub-layers): salinity x ice thickness x ocean thickness, "
+          f"{n} x {n} x {n} = {res.cells:,d} cells x {res.periods} periods")
+    print(f"  conductivity table: {' x '.join(map(str, res.table_nodes))} nodes built in {res.table_seconds:.1f} s, "
+          f"max relative error {res.table_max_rel_error:.2g}")
+    print(f"  grid (forward model, chi-square, marginals): {res.grid_seconds:.1f} s "
+          f"({res.grid_seconds / res.cells * 1e6:.0f} us per cell); total {res.grid_seconds + res.table_seconds:.1f} s")
+    print(f"  exact path (brine model at every sub-layer): {res.seconds_per_cell_exact * 1e6:.0f} us per cell on "
+          f"{res.exact_sample} cells -> about {res.seconds_per_cell_exact * res.cells:.0f} s for the grid")
+    print(f"  largest |R_tabulated - R_exact| on those cells: {res.max_response_difference:.1e}")
     return 0
 
 

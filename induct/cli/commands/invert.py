@@ -9,6 +9,7 @@ from induct.cli.tables import Column, format_table
 from induct.inversion.grid import GRID_TASK_MODELS
 from induct.cli.commands._cluster import add_cluster_options, backend_for
 from induct.cli.commands._truth import add_truth_option, truth_from_args
+from induct.inversion.grid import misfit_message
 
 
 def register(subparsers):
@@ -36,6 +37,19 @@ def register(subparsers):
     add_truth_option(p)
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    p.add_argument("--no-refine", action="store_true",
+                   help="grid: evaluate the starting grid only (no adaptive refinement and no resolution check)")
+    p.add_argument("--max-refinements", type=int, default=3, metavar="N",
+                   help="grid: most resolution doublings of the adaptive refinement (default 3)")
+    p.add_argument("--min-p-value", type=float, default=1e-3, metavar="P",
+                   help="below this p-value of chi2_min the model family is rejected (default 1e-3)")
+    p.add_argument("--accept-misfit", action="store_true",
+                   help="report the ranges (exit 0) even when the p-value is below --min-p-value")
+    p.add_argument("--model-error", nargs=2, type=float, metavar=("FRACTIONAL", "ABSOLUTE"),
+                   help="add a model-error covariance: variance (FRACTIONAL |R|)^2 + ABSOLUTE^2 on each of Re R and "
+                        "Im R, the way to allow for fields the model leaves out (replaces the file's [model_error])")
+    p.add_argument("--save-posterior", metavar="FILE.nc",
+                   help="write the resolved grid posterior (marginals, 2-D maps, ranges, fit quality) as NetCDF")
     add_cluster_options(p, GRID_TASK_MODELS)
     return p
 
@@ -48,7 +62,19 @@ def run(args) -> int:
     from induct.io.scenario import load_scenario
 
     scenario = load_scenario(args.scenario)
-    data = load_measurements(args.data)
+    # Amplitudes above 1 are only possible with a conducting sheet outside the reference radius.
+    data = load_measurements(args.data, amplification=scenario.model.ionosphere is not None)
+    if args.model_error is not None:
+        frac, absolute = args.model_error
+        if not (frac >= 0 and absolute >= 0):
+            raise ValueError(f"--model-error FRACTIONAL ABSOLUTE must both be >= 0, got {frac:g} {absolute:g}")
+        data = data.with_model_error(frac, absolute)
+    if not 0.0 < args.min_p_value < 1.0:
+        raise ValueError(f"--min-p-value must be between 0 and 1, got {args.min_p_value:g}")
+    if args.max_refinements < 0:
+        raise ValueError(f"--max-refinements must be >= 0, got {args.max_refinements}")
+    if args.save_posterior and not str(args.save_posterior).endswith(".nc"):
+        raise ValueError(f"--save-posterior: give a file name ending in .nc, got {args.save_posterior!r}")
     if args.params:
         table, where = read_parameter_table(args.params), f"{args.params}"
     else:
@@ -76,25 +102,38 @@ def run(args) -> int:
             scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
             cap=max(args.list, DEFAULT_LIST_CAP), progress=not (args.no_progress or args.quiet or args.json),
             steps=args.steps, walkers=args.walkers, seed=args.seed,
-            backend=backend, chunk_size=args.task_size,
+            backend=backend, chunk_size=args.task_size, refine=not args.no_refine,
+            max_refinements=args.max_refinements, min_p_value=args.min_p_value,
         )
+    rejected = bool(result.fit) and not result.fit["acceptable"]
+    code = 3 if rejected and not args.accept_misfit else 0
     written = []
+    if args.save_posterior:
+        from induct.io.posterior_files import write_posterior_netcdf
+
+        write_posterior_netcdf(result, args.save_posterior)
+        written.append(args.save_posterior)
     if args.plot:
         from induct.plot.corner import save_corner
 
-        written = save_corner(result, args.plot, title=f"{scenario.name} ({data.source})", truth=truth)
+        written += save_corner(result, args.plot, title=f"{scenario.name} ({data.source})", truth=truth)
     if args.json:
         payload = result.to_dict()
         payload["body"] = scenario.name
         payload["data"] = data.source
+        payload["model_rejected"] = rejected
         if written:
-            payload["figures"] = [str(w) for w in written]
+            payload["files"] = [str(w) for w in written]
         print(json.dumps(payload, indent=2))
-        return 0
+        return code
     print(format_summary(result, scenario, data, args.list))
     for w in written:
         print(f"wrote {w}")
-    return 0
+    if rejected:
+        print("")
+        print("MODEL REJECTED: " + misfit_message(result.fit)
+              + ("" if args.accept_misfit else " (exit code 3; --accept-misfit to accept)"))
+    return code
 
 
 def _check_size(args, model, data, params) -> None:
@@ -135,8 +174,12 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
     ]
     if result.method == "grid":
         shape = " x ".join(str(n) for n in result.grid_points)
+        refined = len((result.resolution or {}).get("levels", [])) > 1
         lines.append(
-            f"method: exact posterior on a {shape} grid of equal-prior-mass cells ({result.n_models:,d} possible models, "
+            f"method: exact posterior on a {shape} grid of equal-prior-mass cells"
+            + (" (adaptively refined: only cells near the posterior mass evaluated at this level; "
+               if refined else " (")
+            + f"{result.n_models:,d} possible models, "
             f"{result.n_impossible:,d} physically impossible with zero prior); uniform / log-uniform priors, Gaussian likelihood"
         )
     else:
@@ -146,10 +189,31 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
             f"evaluated, {result.n_impossible:,d} proposals physically impossible); uniform / log-uniform priors, "
             "Gaussian likelihood"
         )
+    fit = result.fit or {}
+    pv = fit.get("p_value")
     lines.append(
-        f"best fit: chi2 = {result.chi2_min:.3f} for {result.n_data} data and {k} free parameter(s) "
-        f"(chi2 per datum {result.chi2_min / result.n_data:.2f})"
+        f"best fit (refined locally by least squares): chi2_min = {result.chi2_min:.3f} for {result.n_data} data and "
+        f"{k} free parameter(s), {fit.get('dof', result.n_data - k)} degrees of freedom, "
+        + (f"p-value {pv:.3g}" if pv is not None else "p-value undefined (no degrees of freedom)")
+        + ("" if fit.get("acceptable", True) else f" < {fit['min_p_value']:g}: THE MODEL FAMILY CANNOT EXPLAIN THE DATA")
     )
+    if data.full_covariance is not None:
+        lines.append("data covariance: full (across periods and components), Cholesky-factored")
+    if "model_error" in data.metadata:
+        me = data.metadata["model_error"]
+        lines.append(f"model-error covariance added: fractional {me['fractional']:g}, absolute {me['absolute']:g}")
+    res = result.resolution
+    if res:
+        if res.get("shifts"):
+            lines.append(
+                "resolution check: grids " + " -> ".join("x".join(map(str, lv)) for lv in res["levels"])
+                + f" (refined where the mass is); last doubling moved the 68/95 % bounds by at most "
+                f"{100 * res['shifts'][-1]:.2f} % of the prior width ("
+                + ("resolved, < " if res["converged"] else "NOT resolved, tolerance ")
+                + f"{100 * res['tolerance']:g} %)"
+            )
+        else:
+            lines.append(f"resolution check: not made ({res.get('stopped', '')})")
     lines.append("")
     params = result.parameters
     cols = [

@@ -14,7 +14,7 @@ from induct.io.measurements import load_measurements
 from induct.constants import MODEL_LIMITS
 from induct.io.scenario import load_scenario
 
-SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km or conductivity_S_per_m (e.g. 'ice shell.thickness_km=5:60:200')"
+SPEC_HELP = "LAYER.FIELD=lo:hi:n[:log], FIELD thickness_km, conductivity_S_per_m, or salinity_g_per_kg / temperature_C of a chemistry-defined ocean (e.g. 'ice shell.thickness_km=5:60:200', 'ocean.salinity_g_per_kg=1:150:100')"
 
 
 def register(subparsers):
