@@ -22,3 +22,29 @@ def _response(radii_m, conductivity_S_per_m, period_s, degree=1):
 def response():
     """Callable ``response(radii_m, conductivity_S_per_m, period_s, degree=1) -> complex ndarray``."""
     return _response
+
+
+# --------------------------------------------------------------------------- shared scenario fixtures
+# One set of bundled fictional scenarios for every test file (parsed once per session). Scenarios and
+# models are not modified by the code under test (InteriorModel.with_layer returns a copy).
+
+@pytest.fixture(scope="session")
+def ilmare_scenario():
+    """The bundled fictional moon Ilmare (induct.io.scenario.Scenario)."""
+    from induct import load_scenario
+
+    return load_scenario("ilmare")
+
+
+@pytest.fixture(scope="session")
+def ilmare(ilmare_scenario):
+    """Ilmare's interior model (induct.model.interior.InteriorModel)."""
+    return ilmare_scenario.model
+
+
+@pytest.fixture(scope="session")
+def ilmare_brine_scenario():
+    """Ilmare with its ocean given by its chemistry (MgSO4 brine)."""
+    from induct import load_scenario
+
+    return load_scenario("ilmare_brine")

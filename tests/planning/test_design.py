@@ -51,8 +51,8 @@ SEED = 20261207
 
 
 @pytest.fixture(scope="module")
-def ilmare():
-    sc = load_scenario("ilmare")
+def ilmare(ilmare_scenario):
+    sc = ilmare_scenario
     params = parse_parameters(sc.raw["invert"], sc.model)
     return sc.model, sc.drive_lines, params
 

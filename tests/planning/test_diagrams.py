@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 import induct
-from induct import InteriorModel, Layer, load_scenario
+from induct import InteriorModel, Layer
 from induct.cli.commands.separate import separation_columns
 from induct.constants import MODEL_LIMITS, SECONDS_PER_HOUR
 from induct.io.measurements import parse_measurements
@@ -17,11 +17,6 @@ from induct.planning.separation import max_detectable_altitude_km, separation, s
 from induct.plot.diagrams import plot_diagram
 from induct.plot.separation import plot_separation
 from induct.plot.style import covariance_ellipse, figure
-
-
-@pytest.fixture(scope="module")
-def ilmare():
-    return load_scenario("ilmare").model
 
 
 def _direct(model, changes, period_h):

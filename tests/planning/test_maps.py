@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 import induct
-from induct import InteriorModel, Layer, load_scenario
+from induct import InteriorModel, Layer
 from induct.constants import MODEL_LIMITS, MU0, SECONDS_PER_HOUR
 from induct.io.map_files import write_map_csv, write_map_files, write_map_netcdf
 from induct.planning.maps import AxisSpec, consistency_levels, feasibility_map, parse_axis_spec
@@ -17,11 +17,6 @@ from induct.io.measurements import parse_measurements
 
 X_SPEC = "ice shell.thickness_km=2:90:37"
 Y_SPEC = "ocean.conductivity_S_per_m=0.05:30:23:log"
-
-
-@pytest.fixture(scope="module")
-def ilmare():
-    return load_scenario("ilmare").model
 
 
 def _direct(model, changes, period_h):
