@@ -8,7 +8,6 @@ Checks name their source: the linear-Gaussian expected information gain is half 
 import json
 import math
 
-import numpy as np
 import pytest
 
 from induct.cli.main import main

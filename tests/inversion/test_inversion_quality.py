@@ -9,7 +9,7 @@ import pytest
 from scipy import stats
 
 from induct.cli.main import main
-from induct.inversion.fitquality import fit_quality, refine_optimum
+from induct.inversion.fitquality import fit_quality
 from induct.inversion.grid import invert
 from induct.inversion.priors import ParameterMap, parse_parameters
 from induct.io.measurements import parse_measurements
