@@ -366,7 +366,7 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         row["chi2"] = float(c)
         rows.append(row)
     two = TwoSigmaSet(setup.delta_chi2, int(np.count_nonzero(part.within <= part.ref + setup.delta_chi2)), rows)
-    return PosteriorResult(
+    result = PosteriorResult(
         method="grid",
         parameters=list(params),
         best=best,
@@ -384,6 +384,12 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         notes=resolution_notes(params, ranges, setup.points),
         grid_points=setup.points,
     )
+    # Evidence: prior-weighted sum of the likelihood over the equal-prior-mass cells, the prior renormalised
+    # over the physically possible cells (see induct.inversion.evidence).
+    from induct.inversion.evidence import grid_log_evidence_from_sums
+
+    result.log_evidence = grid_log_evidence_from_sums(part.ref, total, part.n_valid, setup.measurements)
+    return result
 
 
 def invert(

@@ -119,6 +119,8 @@ class PosteriorResult:
         Further cautions (for example a grid too coarse for a narrow posterior).
     grid_points : tuple of int
         Points per axis (grid) or histogram bins per axis (MCMC).
+    log_evidence, log_evidence_err : float or None
+        ln Z and its 1-sigma error where computed (grid, nested sampling).
     """
 
     method: str
@@ -139,6 +141,15 @@ class PosteriorResult:
     notes: list = field(default_factory=list)
     grid_points: tuple = ()
     interval: str = INTERVAL_KIND
+    #: Natural log of the evidence (marginal likelihood, normalisation of the Gaussian likelihood included)
+    #: and its 1-sigma error, where the method computes it (grid, nested sampling); None otherwise.
+    log_evidence: float | None = None
+    log_evidence_err: float | None = None
+
+    @property
+    def converged(self) -> bool:
+        """False when a sampler's convergence checks failed (its ranges are then not results)."""
+        return bool(self.diagnostics.get("converged", True))
 
     def to_dict(self) -> dict:
         """JSON-ready summary: ``{"ranges": {name: {"best", "68", "95", ...}}, "chi2_min", "n_models", ...}``."""
@@ -180,6 +191,11 @@ class PosteriorResult:
                 "dropped": int(self.two_sigma.dropped),
             },
             "diagnostics": _jsonable(self.diagnostics),
+            "converged": self.converged,
+            **({} if self.log_evidence is None else {
+                "log_evidence": float(self.log_evidence),
+                "log_evidence_err": None if self.log_evidence_err is None else float(self.log_evidence_err),
+            }),
             "not_modelled": MODEL_LIMITS,
         }
 
