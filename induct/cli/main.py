@@ -7,9 +7,12 @@ provides two functions::
     def run(args) -> int                                    # do the work, return exit code
 
 To add a command, write the module and append its name to ``COMMANDS``.
-Errors a user can fix (bad input files, out-of-range values) are raised as
-``ValueError``/``FileNotFoundError`` by the API and printed here as one line
-on stderr with exit code 2; nothing else is caught.
+Errors a user can fix (bad input files, out-of-range values, a missing optional
+extra) are raised as ``ValueError``/``FileNotFoundError``/``ImportError`` by the
+API and printed here as one line on stderr with exit code 2; an interrupt
+(Ctrl-C) exits with 130; nothing else is caught. Exit codes of commands:
+0 ok, 2 bad input, 3 data the model cannot fit, 4 sampler not converged,
+130 interrupted.
 """
 
 from __future__ import annotations
@@ -29,6 +32,7 @@ COMMANDS = (
     "flyby",
     "fit",
     "invert",
+    "compare",
     "map",
     "diagram",
     "separate",
@@ -63,6 +67,12 @@ def main(argv: list[str] | None = None) -> int:
         message = exc.args[0] if isinstance(exc, KeyError) and exc.args else exc
         print(f"induct {args.command}: error: {message}", file=sys.stderr)
         return 2
+    except ImportError as exc:  # an optional extra is missing; the message names it
+        print(f"induct {args.command}: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print(f"induct {args.command}: interrupted", file=sys.stderr)
+        return 130
 
 
 if __name__ == "__main__":  # pragma: no cover

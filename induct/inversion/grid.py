@@ -17,9 +17,11 @@ Two ways to explore the posterior:
   a capped list of the best cells), which :func:`combine_partials` merges in
   any order. Memory is bounded by the task size, whatever the grid size, so
   the same code runs in-process or on a cluster (``backend=``).
-* ``"mcmc"`` (default for more than 4 parameters): the affine-invariant
-  ensemble sampler of emcee (Foreman-Mackey et al. 2013, PASP 125, 306), see
-  :mod:`induct.inversion.mcmc`.
+* samplers (default for more than 4 parameters): the nested sampler of
+  dynesty (Speagle 2020, MNRAS 493, 3132; :mod:`induct.inversion.nested`;
+  evidence included) or the affine-invariant ensemble sampler of emcee
+  (Foreman-Mackey et al. 2013, PASP 125, 306; :mod:`induct.inversion.mcmc`),
+  each with its convergence checked and run longer within a budget.
 
 Ranges are equal-tailed credible intervals; see :mod:`induct.inversion.posterior` for
 every convention reported with the result.
@@ -406,6 +408,9 @@ def invert(
     steps: int | None = None,
     walkers: int | None = None,
     seed: int = 0,
+    nlive: int | None = None,
+    max_evaluations: int | None = None,
+    max_time_s: float | None = None,
 ) -> PosteriorResult:
     """Posterior ranges of the free parameters of ``model`` given ``measurements``.
 
@@ -418,8 +423,12 @@ def invert(
     parameters : mapping or sequence of Parameter
         An ``[invert]`` table (``"LAYER.FIELD" -> {range, scale}``), checked
         by :func:`induct.inversion.priors.parse_parameters`, or checked parameters.
-    sampler : {"auto", "grid", "mcmc"}
-        ``"auto"``: grid for up to 4 free parameters, MCMC above.
+    sampler : {"auto", "grid", "nested", "ensemble", "mcmc"}
+        ``"auto"``: grid for up to 4 free parameters; above, the nested sampler
+        (dynesty, :mod:`induct.inversion.nested`) if installed, else the
+        ensemble sampler (emcee, :mod:`induct.inversion.mcmc`; ``"mcmc"`` is
+        the same). Samplers check their convergence and run longer within the
+        budget; see ``result.converged``.
     grid_points : int or sequence of int, optional
         Grid points per axis (>= 2; default 60). For MCMC: histogram bins of
         the marginal maps.
@@ -432,7 +441,13 @@ def invert(
     chunk_size : int
         Grid cells per task.
     steps, walkers, seed : int, optional
-        MCMC settings (see :func:`induct.inversion.mcmc.run_mcmc`).
+        Ensemble-sampler settings (see :func:`induct.inversion.mcmc.run_mcmc`); ``seed`` also seeds the nested sampler.
+    nlive : int, optional
+        Live points of the nested sampler (see :func:`induct.inversion.nested.run_nested`).
+    max_evaluations : int, optional
+        Sampler budget of likelihood evaluations.
+    max_time_s : float, optional
+        Sampler budget of wall-clock seconds.
 
     Returns
     -------
@@ -448,15 +463,32 @@ def invert(
         parameters = parse_parameters(parameters, model)
     pmap = ParameterMap(model, parameters)
     k = len(pmap.parameters)
-    if sampler not in ("auto", "grid", "mcmc"):
-        raise ValueError(f"sampler must be 'auto', 'grid' or 'mcmc', got {sampler!r}")
+    if sampler not in ("auto", "grid", "mcmc", "ensemble", "nested"):
+        raise ValueError(f"sampler must be 'auto', 'grid', 'nested' or 'ensemble' ('mcmc'), got {sampler!r}")
     if sampler == "auto":
-        sampler = "grid" if k <= MAX_GRID_PARAMETERS else "mcmc"
+        sampler = "grid" if k <= MAX_GRID_PARAMETERS else _default_sampler()
     points = DEFAULT_GRID_POINTS if grid_points is None else grid_points
     if sampler == "grid":
         setup = make_grid_setup(pmap, measurements, points, cap)
         return run_grid(setup, backend=backend, progress=progress, chunk_size=chunk_size)
+    if sampler == "nested":
+        from induct.inversion.nested import run_nested
+
+        return run_nested(pmap, measurements, bins=_grid_points(points, k), cap=cap, nlive=nlive, seed=seed,
+                          max_evaluations=max_evaluations, max_time_s=max_time_s, progress=progress)
     from induct.inversion.mcmc import run_mcmc
 
     return run_mcmc(pmap, measurements, bins=_grid_points(points, k), cap=cap, steps=steps, walkers=walkers,
-                    seed=seed, progress=progress)
+                    seed=seed, progress=progress, max_evaluations=max_evaluations, max_time_s=max_time_s)
+
+
+def _default_sampler() -> str:
+    """The sampler above the grid's reach: nested (dynesty) if installed, else the ensemble sampler (emcee)."""
+    import importlib.util
+
+    if importlib.util.find_spec("dynesty") is not None:
+        return "nested"
+    if importlib.util.find_spec("emcee") is not None:
+        return "ensemble"
+    raise ImportError("more than 4 free parameters need a sampler: pip install 'induct[nested]' (dynesty) "
+                      "or 'induct[mcmc]' (emcee)")
