@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import math
 import time
+import warnings
 
 import numpy as np
 
@@ -261,32 +262,41 @@ def run_nested(
     stopped_by = "dlogz"
     delta = math.inf
     calls = int(getattr(sampler, "ncall", 0))
-    try:
-        for res in sampler.sample(maxcall=int(max_evaluations), dlogz=dlogz, add_live=False):
-            calls += int(res.nc)
-            delta = float(res.delta_logz)
+    with warnings.catch_warnings():
+        # dynesty's own "stopped short" warning is reported below as a convergence failure instead
+        warnings.filterwarnings("ignore", message="The sampling was stopped short", category=UserWarning)
+        try:
+            for res in sampler.sample(maxcall=int(max_evaluations), dlogz=dlogz, add_live=False):
+                calls += int(res.nc)
+                delta = float(res.delta_logz)
+                if bar is not None:
+                    bar.update(1)
+                    bar.set_postfix_str(f"remaining ln Z {delta:.3g} (stop at {dlogz:g}), calls {calls:,d}")
+                if max_time_s is not None and time.monotonic() - start > max_time_s:
+                    stopped_by = "max_time_s"
+                    break
+        finally:
             if bar is not None:
-                bar.update(1)
-                bar.set_postfix_str(f"remaining ln Z {delta:.3g} (stop at {dlogz:g}), calls {calls:,d}")
-            if max_time_s is not None and time.monotonic() - start > max_time_s:
-                stopped_by = "max_time_s"
-                break
-    finally:
-        if bar is not None:
-            bar.close()
+                bar.close()
     if stopped_by == "dlogz" and calls >= max_evaluations:
         stopped_by = "max_evaluations"
-    for _ in sampler.add_live_points():
-        pass
-    r = sampler.results
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        for _ in sampler.add_live_points():
+            pass
+        r = sampler.results
     logwt = np.asarray(r["logwt"], dtype=float)
     log_z_box = float(np.asarray(r["logz"])[-1])
     log_z_err = float(np.asarray(r["logzerr"])[-1])
     w = np.exp(logwt - logwt.max())
     u = np.asarray(r["samples"], dtype=float)
     logl = np.asarray(r["logl"], dtype=float)
-    ok = np.isfinite(logl)
+    ok = np.isfinite(logl) & (logl > -1e100)    # dynesty stores impossible initial points at a huge negative value
     chi2 = -2.0 * (logl[ok] - loglike.norm)
+    info = float(np.sum(w[ok] * (logl[ok] - log_z_box)) / w.sum())  # information H (nats) of the posterior
+    if not math.isfinite(log_z_err):
+        # dynesty's estimate is undefined when the run holds impossible points: use its approximation sqrt(H / nlive)
+        log_z_err = math.sqrt(max(info, 0.0) / nlive)
     # The prior is renormalised over the possible models: ln Z = ln Z_box - ln f (binomial error of f added).
     frac_err = math.sqrt(max(frac * (1 - frac), 1.0 / ndraw) / ndraw) / frac if frac < 1 else 0.0
     log_z = log_z_box - math.log(frac)
@@ -311,7 +321,7 @@ def run_nested(
         "stopped_by": stopped_by,
         "converged": converged,
         "failures": failures,
-        "information_nats": float(np.asarray(r["information"])[-1]),
+        "information_nats": info,
     }
     return summarise_samples(
         method="nested", pmap=pmap, measurements=measurements, u=u, weights=w,
