@@ -154,7 +154,7 @@ def test_impossible_models_renormalise_the_prior_like_the_grid():
              "mantle.thickness_km": {"range": [900, 1500]}}
     pm = ParameterMap(s.model, parse_parameters(table, s.model))
     g, g_err, _ = grid_evidence(pm, d, 40)
-    res = run_nested(pm, d, bins=(10, 10, 10), cap=0, nlive=80, seed=1)
+    res = run_nested(pm, d, bins=(10, 10, 10), cap=0, nlive=50, seed=1)
     assert 0.1 < res.diagnostics["feasible_fraction"] < 0.95
     assert abs(res.log_evidence - g) <= 2 * math.hypot(g_err, res.log_evidence_err), (g, g_err, res.log_evidence)
 
@@ -180,3 +180,22 @@ def test_missing_extra_names_it(monkeypatch):
     lmap, data = _linear_problem()
     with pytest.raises(ImportError, match=r"pip install 'induct\[nested\]'"):
         run_nested(lmap, data, bins=(5, 5), cap=0)
+
+
+def test_nested_sampler_is_calibrated_on_a_small_simulation_study():
+    # Simulation-based calibration (Cook, Gelman & Rubin 2006, JCGS 15, 675; Talts et al. 2018, arXiv:1804.06788)
+    # at test size: 30 truths drawn from the prior of the cheap linear-Gaussian problem (1 parameter, fixed seeds),
+    # nested sampling with 25 live points. Coverage of the 68 % and 95 % intervals within 3 binomial sigma
+    # (sqrt(x (1 - x) / n)); uniformity of the posterior CDF at the truth: chi-square test on 5 bins, p > 0.001.
+    # The full-size study on the bundled moon is tools/sampler_calibration.py.
+    from induct.inversion.sampler_calibration import run_sbc
+
+    rng = np.random.default_rng(5)
+    lmap = LinearMap(0.5 + 0.2j + np.zeros(3), 0.01 * (rng.normal(size=(3, 1)) + 1j * rng.normal(size=(3, 1))),
+                     [(-1.0, 1.0)])
+    template = data_for(lmap, [0.0], 0.004)
+    r = run_sbc(lmap, template, sampler="nested", n_trials=30, seed=11, bins=5, nlive=25)
+    assert r.n_trials == 30 and r.n_unconverged == 0
+    for level, x in (("68", 0.68), ("95", 0.95)):
+        assert abs(r.coverage[level] - x) <= 3 * r.coverage_err[level], (level, r.coverage[level], r.coverage_err[level])
+    assert min(r.uniformity_p.values()) > 1e-3, r.uniformity_p
