@@ -47,6 +47,7 @@ from induct.inversion.posterior import (
     two_sigma_delta_chi2,
 )
 from induct.inversion.priors import Parameter, ParameterMap, parse_parameters
+from induct.inversion.samples import log_likelihood_normalisation
 
 __all__ = [
     "GridSetup",
@@ -387,10 +388,9 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         grid_points=setup.points,
     )
     # Evidence: prior-weighted sum of the likelihood over the equal-prior-mass cells, the prior renormalised
-    # over the physically possible cells (see induct.inversion.evidence).
-    from induct.inversion.evidence import grid_log_evidence_from_sums
-
-    result.log_evidence = grid_log_evidence_from_sums(part.ref, total, part.n_valid, setup.measurements)
+    # over the physically possible cells, with the Gaussian normalisation (see induct.inversion.evidence).
+    result.log_evidence = float(-0.5 * part.ref + np.log(total) - np.log(part.n_valid)
+                                + log_likelihood_normalisation(setup.measurements))
     return result
 
 
