@@ -245,6 +245,15 @@ class HypothesisEvidence:
     priors: list
     converged: bool = True
     details: dict = field(default_factory=dict)
+    n_data: int = 0
+
+    @property
+    def p_value(self) -> float:
+        """Goodness of fit of the best model: ``P(chi2 >= chi2_min)`` with ``n_data - n_free`` degrees of freedom (NaN if <= 0)."""
+        from scipy import stats
+
+        dof = self.n_data - self.n_free
+        return float(stats.chi2.sf(self.chi2_min, dof)) if dof > 0 else float("nan")
 
 
 @dataclass
@@ -285,6 +294,7 @@ class ComparisonResult:
             "hypotheses": [
                 {"scenario": h.name, "log_evidence": h.log_evidence, "log_evidence_err": h.log_evidence_err,
                  "method": h.method, "n_free": h.n_free, "chi2_min": h.chi2_min, "priors": list(h.priors),
+                 "p_value": h.p_value, "dof": h.n_data - h.n_free,
                  "converged": h.converged, **{k: v for k, v in h.details.items()}}
                 for h in self.hypotheses
             ],
@@ -359,7 +369,7 @@ def compare_hypotheses(
         if use == "grid":
             log_z, err, chi2_min = grid_evidence(pmap, measurements, grid_points, backend=backend, progress=progress)
             out.append(HypothesisEvidence(h.name, log_z, err, "grid", k, chi2_min, priors,
-                                          details={"grid_points": int(grid_points)}))
+                                          details={"grid_points": int(grid_points)}, n_data=measurements.n_data))
         else:
             from induct.inversion.nested import run_nested
 
@@ -372,5 +382,6 @@ def compare_hypotheses(
                 h.name, float(res.log_evidence), float(res.log_evidence_err), "nested", k, res.chi2_min, priors,
                 converged=res.converged,
                 details={"likelihood_calls": d["likelihood_calls"], "dlogz": d["dlogz"], "nlive": d["nlive"]},
+                n_data=measurements.n_data,
             ))
     return ComparisonResult(out, measurements.n_data)

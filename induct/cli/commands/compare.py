@@ -89,9 +89,13 @@ def format_comparison(result, data) -> str:
         Column("free", "", [str(h.n_free) for h in hs], "s"),
         Column("ln Z", "", [f"{h.log_evidence:.2f} +/- {h.log_evidence_err:.2f}" for h in hs], "s"),
         Column("chi2_min", "", [f"{h.chi2_min:.2f}" for h in hs], "s"),
+        Column("dof", "", [str(h.n_data - h.n_free) for h in hs], "s"),
+        Column("p", "", [f"{h.p_value:.2g}" for h in hs], "s"),
         Column("method", "", [h.method + ("" if h.converged else " (NOT CONVERGED)") for h in hs], "s"),
     ]
     lines.append(format_table(cols))
+    lines.append("p: chi-square goodness of fit of the best model (common practice: p < 0.001, the model family cannot "
+                 "explain the data)")
     lines.append("ln Z: natural log of the evidence, Gaussian likelihood with its normalisation -1/2 log det(2 pi C); "
                  "grid error: change of ln Z when the points per axis halve; nested: dynesty's estimate")
     lines.append("")
@@ -104,6 +108,13 @@ def format_comparison(result, data) -> str:
     for bf in result.bayes_factors():
         lines.append(f"  {bf['favoured']} over {bf['over']}: 2 ln K = {bf['two_ln_K']:.2f} +/- {bf['two_ln_K_err']:.2f} "
                      f"({bf['evidence']})")
+    misfit = [h for h in hs if h.p_value < 1e-3]
+    if misfit:
+        lines.append("")
+        lines.append("goodness of fit: " + "; ".join(
+            f"{h.name} cannot explain the data (chi2_min {h.chi2_min:.1f} for {h.n_data - h.n_free} degrees of "
+            f"freedom, p = {h.p_value:.2g} < 0.001)" for h in misfit)
+            + ". A Bayes factor only ranks the hypotheses given; it does not say that the favoured one fits.")
     bad = [h.name for h in hs if not h.converged]
     if bad:
         lines.append("")
