@@ -262,9 +262,10 @@ def run_nested(
     stopped_by = "dlogz"
     delta = math.inf
     calls = int(getattr(sampler, "ncall", 0))
-    with warnings.catch_warnings():
-        # dynesty's own "stopped short" warning is reported below as a convergence failure instead
-        warnings.filterwarnings("ignore", message="The sampling was stopped short", category=UserWarning)
+    notes = []
+    with warnings.catch_warnings(record=True) as caught:
+        # dynesty's own warnings are summarised in the result ("stopped short": a convergence failure below)
+        warnings.simplefilter("always")
         try:
             for res in sampler.sample(maxcall=int(max_evaluations), dlogz=dlogz, add_live=False):
                 calls += int(res.nc)
@@ -278,6 +279,17 @@ def run_nested(
         finally:
             if bar is not None:
                 bar.close()
+    for w in caught:
+        text = str(w.message)
+        if "stopped short" in text:
+            continue
+        if "enlargement factor" in text:
+            note = ("dynesty's bootstrap found a large enlargement factor for its ellipsoidal bounds (a curved or "
+                    "multi-modal posterior): the bounds were enlarged, so sampling was less efficient")
+            if note not in notes:
+                notes.append(note)
+            continue
+        warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     if stopped_by == "dlogz" and calls >= max_evaluations:
         stopped_by = "max_evaluations"
     with warnings.catch_warnings():
@@ -322,10 +334,13 @@ def run_nested(
         "converged": converged,
         "failures": failures,
         "information_nats": info,
+        "notes": notes,
     }
-    return summarise_samples(
+    result = summarise_samples(
         method="nested", pmap=pmap, measurements=measurements, u=u, weights=w,
         evaluated_u=u[ok], evaluated_chi2=chi2, bins=tuple(bins), cap=cap,
         n_models=loglike.evaluated, n_impossible=loglike.impossible, diagnostics=diagnostics,
         log_evidence=log_z, log_evidence_err=log_z_err,
     )
+    result.notes.extend(notes)
+    return result

@@ -124,6 +124,11 @@ def _not_converged(result, scenario, data, as_json: bool) -> int:
         "NOT CONVERGED: the sampler failed its convergence checks, so no ranges are reported. What failed:",
     ]
     lines.extend(f"  - {f}" for f in failures)
+    spent = {"max_evaluations": "the budget of likelihood evaluations (--max-evaluations) was spent",
+             "max_time_s": "the time budget (--max-time-s) was spent"}.get(d.get("stopped_by"), d.get("stopped_by"))
+    if result.method == "mcmc":
+        spent = f"{spent}, after {d['steps']:,d} steps x {d['walkers']} walkers"
+    lines.append(f"stopped: {spent}")
     if d.get("criteria"):
         lines.append(f"criteria: {d['criteria']}")
     lines.append("to fix: raise --max-evaluations or --max-time-s, or fix fewer parameters / narrow the prior ranges")
