@@ -24,9 +24,11 @@ is not converged and says so. The evidence error is dynesty's estimate
 with H the information).
 
 Speed: each proposal of dynesty's uniform sampler is evaluated on its own;
-here proposals are drawn in batches from the same bound and evaluated together
-with the vectorised kernel, keeping the first that passes the likelihood
-constraint (the same distribution as drawing them one at a time).
+here dynesty's queue of 8 proposals is filled in rounds: candidates for all of
+them are drawn from the bound and evaluated in one call of the vectorised
+kernel, and each proposal keeps its first candidate that passes the likelihood
+constraint (the same distribution as drawing them one at a time). dynesty
+checks each queued point against the current constraint when it uses it.
 """
 
 from __future__ import annotations
@@ -47,6 +49,8 @@ DEFAULT_NLIVE = 400
 DEFAULT_DLOGZ = 0.1
 #: Default budget of likelihood evaluations of a sampler run.
 DEFAULT_MAX_EVALUATIONS = 2_000_000
+#: Proposals made per round (each checked against the current likelihood bound when used).
+QUEUE_SIZE = 8
 #: Prior draws used to measure the physically possible fraction of the prior box.
 FEASIBLE_DRAWS = 4096
 
@@ -122,36 +126,53 @@ class _BatchMap:
                 values = self.loglike.batch(np.asarray(items))
                 return [LoglOutput(float(v), False) for v in values]
             name = getattr(func, "__qualname__", "")
-            if name in ("UniformBoundSampler.sample", "UnitCubeSampler.sample"):
-                return [self._uniform(a, cube=name.startswith("UnitCube")) for a in items]
+            if name in ("UniformBoundSampler.sample", "UnitCubeSampler.sample") and items:
+                return self._uniform(items, cube=name.startswith("UnitCube"))
         return list(map(func, items))
 
-    def _uniform(self, args, cube: bool):
+    def _uniform(self, items, cube: bool):
+        """New points for a queue of proposals: one vectorised evaluation per round for the whole queue."""
         SamplerReturn, _, _, SamplerHistoryItem, get_random_generator = self._dyn
-        rstate = get_random_generator(args.rseed)
-        ndim = len(args.u)
-        ncalls = 0
-        while True:
-            if cube:  # before the first bound: uniform in the unit cube
-                u = rstate.uniform(size=(self.batch_size, ndim))
-            else:
-                u = np.asarray(args.kwargs["bound"].samples(self.batch_size, rstate=rstate)).reshape(-1, ndim)
-            u = u[(u.min(axis=1) > 0) & (u.max(axis=1) < 1)]
-            if len(u) == 0:
+        states = [get_random_generator(a.rseed) for a in items]
+        ndim = len(items[0].u)
+        out = [None] * len(items)
+        ncalls = [0] * len(items)
+        pending = list(range(len(items)))
+        while pending:
+            drawn = []
+            for i in pending:
+                a = items[i]
+                if cube:  # before the first bound: uniform in the unit cube
+                    u = states[i].uniform(size=(self.batch_size, ndim))
+                else:
+                    u = np.asarray(a.kwargs["bound"].samples(self.batch_size, rstate=states[i])).reshape(-1, ndim)
+                drawn.append(u[(u.min(axis=1) > 0) & (u.max(axis=1) < 1)])
+            allu = np.concatenate(drawn)
+            if len(allu) == 0:
                 continue
-            v = np.array([args.prior_transform(x) for x in u])
-            logl = self.loglike.batch(v)
-            hit = np.flatnonzero(logl > args.loglstar)
-            if hit.size:
-                j = int(hit[0])
-                ncalls += j + 1
-                # adapt the batch to the acceptance rate (about two passes expected per batch)
-                self.batch_size = int(np.clip(2 * len(u) / (hit.size + 1), 4, 1024))
-                history = [SamplerHistoryItem(u=u[j], v=v[j], logl=float(logl[j]))]
-                return SamplerReturn(u=u[j], v=v[j], logl=float(logl[j]), ncalls=ncalls, evaluation_history=history,
-                                     tuning_info=None, proposal_stats={"n_proposals": 0})
-            ncalls += len(u)
-            self.batch_size = min(1024, 2 * self.batch_size)
+            allv = np.array([items[pending[0]].prior_transform(x) for x in allu])
+            logl = self.loglike.batch(allv)
+            still, start, hits = [], 0, 0
+            for i, u in zip(pending, drawn):
+                seg = slice(start, start + len(u))
+                start += len(u)
+                ok = np.flatnonzero(logl[seg] > items[i].loglstar)
+                hits += ok.size
+                if ok.size == 0:
+                    ncalls[i] += len(u)
+                    still.append(i)
+                    continue
+                j = int(ok[0])
+                ncalls[i] += j + 1
+                v, lj = allv[seg][j], float(logl[seg][j])
+                out[i] = SamplerReturn(u=u[j], v=v, logl=lj, ncalls=ncalls[i],
+                                       evaluation_history=[SamplerHistoryItem(u=u[j], v=v, logl=lj)],
+                                       tuning_info=None, proposal_stats={"n_proposals": 0})
+            # adapt the batch to the acceptance rate: about two hits per proposal and round
+            rate = hits / max(len(allu), 1)
+            self.batch_size = int(np.clip(2.0 / max(rate, 1e-3), 4, 1024))
+            pending = still
+        return out
 
 
 def _feasible_fraction(loglike: _LogLike, lo, hi, seed: int) -> tuple[float, int]:
@@ -250,7 +271,7 @@ def run_nested(
     pool = _BatchMap(loglike)
     sampler = dynesty.NestedSampler(
         loglike, _Box(lo, hi), k, nlive=int(nlive), bound="multi", sample="unif",
-        rstate=np.random.default_rng(seed), pool=pool, queue_size=1,
+        rstate=np.random.default_rng(seed), pool=pool, queue_size=QUEUE_SIZE,
         use_pool={"prior_transform": False, "loglikelihood": True, "propose_point": True, "update_bound": False},
     )
     bar = None
