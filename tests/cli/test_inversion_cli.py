@@ -228,3 +228,55 @@ def test_bench_inversion_prints_time_and_memory(capsys):
     assert main(["bench", "--inversion", "--inversion-grid", "6", "--json"]) == 0
     res = json.loads(capsys.readouterr().out)
     assert res["model_periods"] == 6**3 * 3 and res["seconds"] > 0 and res["peak_rss_mb"] > 0
+
+
+def test_compare_by_nested_sampling(files, capsys, tmp_path):
+    # Two one-parameter hypotheses on the same data, evidence by dynesty: finite ln Z with a positive error each,
+    # agreeing with the grid evidence.
+    s, d, _ = files
+    base = SCENARIO.split("[invert]")[0]
+    a, b = tmp_path / "a.toml", tmp_path / "b.toml"
+    a.write_text(base + '[invert]\n"ocean.conductivity_S_per_m" = { range = [0.05, 30], scale = "log" }\n')
+    b.write_text(base.replace('name = "Test body"', 'name = "Other body"')
+                 + '[invert]\n"mantle.conductivity_S_per_m" = { range = [1e-4, 0.1], scale = "log" }\n')
+    assert main(["compare", str(a), str(b), "--data", str(d), "--method", "nested", "--nlive", "25", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert [h["method"] for h in out["hypotheses"]] == ["nested", "nested"]
+    assert all(math.isfinite(h["log_evidence"]) and h["log_evidence_err"] > 0 for h in out["hypotheses"])
+    # The same comparison on the grid (1 parameter, 60 points): each ln Z within 3 combined stated errors.
+    assert main(["compare", str(a), str(b), "--data", str(d), "--method", "grid", "--json"]) == 0
+    grid = json.loads(capsys.readouterr().out)
+    for h, g in zip(out["hypotheses"], grid["hypotheses"]):
+        tol = 3 * math.hypot(h["log_evidence_err"], g["log_evidence_err"])
+        assert abs(h["log_evidence"] - g["log_evidence"]) <= tol, (h, g)
+    # Occam: a parameter the data barely constrain (mantle conductivity, ocean fixed at the truth) costs no evidence,
+    # a constrained one with a wide prior does, so "Other body" is favoured.
+    assert out["bayes_factors"][0]["favoured"] == grid["bayes_factors"][0]["favoured"] == "Other body"
+
+
+def test_missing_sampler_extra_exits_2_naming_it(files, capsys, monkeypatch):
+    import builtins
+
+    real = builtins.__import__
+
+    def fake(name, *a, **kw):
+        if name == "dynesty":
+            raise ImportError("no dynesty")
+        return real(name, *a, **kw)
+
+    monkeypatch.setattr(builtins, "__import__", fake)
+    s, d, _ = files
+    assert main(["invert", str(s), "--data", str(d), "--sampler", "nested", "--quiet"]) == 2
+    assert "pip install 'induct[nested]'" in capsys.readouterr().err
+
+
+def test_interrupt_exits_130(files, capsys, monkeypatch):
+    import induct.inversion.grid as grid
+
+    def interrupted(*a, **kw):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(grid, "invert", interrupted)
+    s, d, _ = files
+    assert main(["invert", str(s), "--data", str(d), "--quiet"]) == 130
+    assert "interrupted" in capsys.readouterr().err
