@@ -199,3 +199,14 @@ def test_nested_sampler_is_calibrated_on_a_small_simulation_study():
     for level, x in (("68", 0.68), ("95", 0.95)):
         assert abs(r.coverage[level] - x) <= 3 * r.coverage_err[level], (level, r.coverage[level], r.coverage_err[level])
     assert min(r.uniformity_p.values()) > 1e-3, r.uniformity_p
+
+
+def test_time_budget_stops_both_samplers():
+    # A budget far below what either sampler needs (1 ms): not converged, and the reason is the time budget.
+    lmap, data = _linear_problem(k=2, seed=1)
+    res = run_nested(lmap, data, bins=(10, 10), cap=0, nlive=50, seed=0, max_time_s=1e-3)
+    assert not res.converged and res.diagnostics["stopped_by"] == "max_time_s"
+    assert "time budget" in res.diagnostics["failures"][0]
+    with pytest.warns(UserWarning, match="not converged"):
+        mc = run_mcmc(lmap, data, bins=(10, 10), cap=0, steps=100, walkers=8, seed=0, max_time_s=1e-3)
+    assert not mc.converged and mc.diagnostics["stopped_by"] == "max_time_s"
