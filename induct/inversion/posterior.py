@@ -145,6 +145,9 @@ class PosteriorResult:
     #: and its 1-sigma error, where the method computes it (grid, nested sampling); None otherwise.
     log_evidence: float | None = None
     log_evidence_err: float | None = None
+    #: Sampler results only: posterior samples in prior coordinates, shape (S, k), and their weights, shape (S,).
+    samples: np.ndarray | None = field(default=None, repr=False)
+    sample_weights: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def converged(self) -> bool:

@@ -184,4 +184,6 @@ def summarise_samples(
     )
     result.log_evidence = log_evidence
     result.log_evidence_err = log_evidence_err
+    result.samples = np.asarray(u, dtype=float)
+    result.sample_weights = w
     return result
