@@ -114,6 +114,12 @@ def rank_rhat(draws) -> float:
     -------
     float
         Dimensionless; <= 1.01 is the convergence threshold.
+
+    Examples
+    --------
+    >>> x = np.random.default_rng(2).normal(size=(4, 500))
+    >>> bool(rank_rhat(x) < 1.01), bool(rank_rhat(x + np.arange(4)[:, None]) > 1.5)
+    (True, True)
     """
     x = _as_chains(draws)
     bulk = basic_rhat(normal_scores(split_chains(x)))
@@ -184,12 +190,28 @@ def ess(chains) -> float:
 
 
 def ess_bulk(draws) -> float:
-    """Bulk effective sample size: ESS of the normal scores of the split chains; ``draws`` shape (C, N)."""
+    """Bulk effective sample size: ESS of the normal scores of the split chains; ``draws`` shape (C, N).
+
+    Examples
+    --------
+    >>> x = np.random.default_rng(2).normal(size=(4, 500))
+    >>> bool(1000 < ess_bulk(x) < 3000)
+    True
+    """
     return ess(normal_scores(split_chains(_as_chains(draws))))
 
 
 def ess_tail(draws) -> float:
-    """Tail effective sample size: the smaller ESS of the indicators of the 5 % and 95 % quantiles."""
+    """Tail effective sample size: the smaller ESS of the indicators of the 5 % and 95 % quantiles.
+
+    ``draws`` has shape (C, N); returns the number of effective draws for the tails.
+
+    Examples
+    --------
+    >>> x = np.random.default_rng(2).normal(size=(4, 500))
+    >>> bool(1000 < ess_tail(x) < 3000)
+    True
+    """
     x = _as_chains(draws)
     out = []
     for q in (0.05, 0.95):
@@ -212,6 +234,13 @@ def chain_diagnostics(chain: np.ndarray, names) -> dict:
     -------
     dict
         ``name -> {"rhat", "ess_bulk", "ess_tail"}``.
+
+    Examples
+    --------
+    >>> chain = np.random.default_rng(0).normal(size=(400, 8, 2))     # 400 steps, 8 walkers, 2 parameters
+    >>> d = chain_diagnostics(chain, ["a", "b"])
+    >>> bool(d["a"]["rhat"] < 1.01 and d["b"]["ess_bulk"] > 2000)
+    True
     """
     out = {}
     for i, name in enumerate(names):

@@ -353,6 +353,19 @@ def compare_hypotheses(
     ------
     ValueError
         Fewer than two hypotheses, an unknown method, bad grid points.
+
+    Examples
+    --------
+    >>> from induct.io.scenario import load_scenario
+    >>> from induct.io.measurements import load_measurements
+    >>> from induct.inversion.priors import parse_parameters
+    >>> s, d = load_scenario("ilmare"), load_measurements("ilmare_measured")
+    >>> wide = parse_parameters({"ocean.conductivity_S_per_m": {"range": [0.05, 30], "scale": "log"}}, s.model)
+    >>> ice = parse_parameters({"ice shell.thickness_km": {"range": [1, 60]}}, s.model)
+    >>> r = compare_hypotheses([Hypothesis("sigma free", s.model, tuple(wide)),
+    ...                         Hypothesis("ice free", s.model, tuple(ice))], d, grid_points=40)
+    >>> sorted(r.to_dict()["hypotheses"][0])[:3]
+    ['chi2_min', 'converged', 'dof']
     """
     from induct.inversion.priors import ParameterMap
 

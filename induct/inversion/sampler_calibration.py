@@ -83,6 +83,14 @@ def simulate_data(template, response: np.ndarray, rng: np.random.Generator):
     Returns
     -------
     Measurements
+
+    Examples
+    --------
+    >>> from induct.io.measurements import load_measurements
+    >>> d = load_measurements("ilmare_measured")
+    >>> sim = simulate_data(d, np.full(3, 0.9 + 0.05j), np.random.default_rng(0))
+    >>> sim.values.shape, sim.source
+    ((3, 2), 'simulated')
     """
     clean = template.predicted(np.asarray(response)[None])[0]
     chol = np.linalg.cholesky(template.covariance)
