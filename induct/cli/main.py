@@ -10,23 +10,7 @@ To add a command, write the module and append its name to ``COMMANDS``.
 
 Failures are handled here, each printed as one line on standard error:
 
-==== =====================================================================================
-code meaning
-==== =====================================================================================
-0    success
-1    the system failed (disk full, permission denied, a missing optional package,
-     out of memory, an internal error: rerun with ``INDUCT_DEBUG=1`` for its traceback)
-2    bad input: an option, a file's content, a job larger than the memory limit
-     (``ValueError``/``FileNotFoundError`` raised by the API, argparse errors)
-130  interrupted (Ctrl-C); 143: terminated (SIGTERM). No partial output is left behind
-==== =====================================================================================
-
-Every command runs inside :func:`induct.io.files.output_set`: its files are
-renamed into place only when it succeeds, never over one of its inputs; replacing
-an earlier output is said on standard error. NumPy floating-point warnings
-(overflow, invalid value) are turned into bad-input errors; other warnings are
-printed as one line each.
-"""
+==== =============================================================================="""
 
 from __future__ import annotations
 
@@ -49,6 +33,7 @@ COMMANDS = (
     "flyby",
     "fit",
     "invert",
+    "compare",
     "map",
     "diagram",
     "separate",
@@ -154,9 +139,9 @@ def main(argv: list[str] | None = None) -> int:
         message = exc.args[0] if isinstance(exc, KeyError) and exc.args else exc
         print(f"{name}: error: {_one_line(message)}", file=sys.stderr)
         return 2
-    except ImportError as exc:
+    except ImportError as exc:  # an optional extra is missing; the message names it
         print(f"{name}: error: {_one_line(exc)}", file=sys.stderr)
-        return 1
+        return 2
     except OSError as exc:
         where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
         print(f"{name}: error: {where}{_one_line(exc.strerror or exc)}", file=sys.stderr)

@@ -17,9 +17,11 @@ Two ways to explore the posterior:
   a capped list of the best cells), which :func:`combine_partials` merges in
   any order. Memory is bounded by the task size, whatever the grid size, so
   the same code runs in-process or on a cluster (``backend=``).
-* ``"mcmc"`` (default for more than 4 parameters): the affine-invariant
-  ensemble sampler of emcee (Foreman-Mackey et al. 2013, PASP 125, 306), see
-  :mod:`induct.inversion.mcmc`.
+* samplers (default for more than 4 parameters): the nested sampler of
+  dynesty (Speagle 2020, MNRAS 493, 3132; :mod:`induct.inversion.nested`;
+  evidence included) or the affine-invariant ensemble sampler of emcee
+  (Foreman-Mackey et al. 2013, PASP 125, 306; :mod:`induct.inversion.mcmc`),
+  each with its convergence checked and run longer within a budget.
 
 Ranges are equal-tailed credible intervals; see :mod:`induct.inversion.posterior` for
 every convention reported with the result.
@@ -46,6 +48,7 @@ from induct.inversion.posterior import (
 )
 from induct.inversion.priors import Parameter, ParameterMap, parse_parameters
 from induct.inversion.fitquality import DEFAULT_MIN_P_VALUE, fit_quality, refine_optimum
+from induct.inversion.samples import log_likelihood_normalisation
 
 __all__ = [
     "GridSetup",
@@ -457,7 +460,7 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
     if part.n_within_dropped:
         notes = list(notes) + [f"the 2-sigma count is a lower bound: {part.n_within_dropped:,d} candidate cells above "
                                f"the {WITHIN_CAP:,d} kept were not re-checked (memory bound)"]
-    return PosteriorResult(
+    result = PosteriorResult(
         method="grid",
         parameters=list(params),
         best=best,
@@ -475,6 +478,11 @@ def summarise_grid(setup: GridSetup, part: GridPartial) -> PosteriorResult:
         notes=notes,
         grid_points=setup.points,
     )
+    # Evidence: prior-weighted sum of the likelihood over the equal-prior-mass cells, the prior renormalised
+    # over the physically possible cells, with the Gaussian normalisation (see induct.inversion.evidence).
+    result.log_evidence = float(-0.5 * part.ref + np.log(total) - np.log(part.n_valid)
+                                + log_likelihood_normalisation(setup.measurements))
+    return result
 
 
 def _children(coarse: GridSetup, fine: GridSetup, active: np.ndarray) -> np.ndarray:
@@ -546,6 +554,7 @@ def run_adaptive_grid(
     part = run_reduction(GridTask(setup), setup.total, chunk_size=chunk_size, combine=combine_partials,
                          backend=backend, desc="inversion grid", progress=progress)
     res = summarise_grid(setup, part)
+    first_valid = part.n_valid
     levels, cells, shifts = [list(setup.points)], [int(setup.total)], []
     converged = False
     stop_reason = "no refinement requested" if max_refinements <= 0 else ""
@@ -573,6 +582,11 @@ def run_adaptive_grid(
     else:
         if max_refinements > 0:
             stop_reason = f"still moving after {max_refinements} doublings"
+    if cur is not setup and res.log_evidence is not None:
+        # Only cells near the optimum were evaluated at the finest level: the prior is spread over all possible
+        # cells of that level, estimated from the fraction of possible cells in the full starting grid.
+        possible = first_valid / setup.total * cur.total
+        res.log_evidence += float(np.log(part.n_valid) - np.log(possible))
     res.resolution = {
         "tolerance": float(tolerance),
         "levels": levels,
@@ -613,6 +627,9 @@ def invert(
     refine: bool = True,
     max_refinements: int = MAX_REFINEMENTS,
     min_p_value: float = DEFAULT_MIN_P_VALUE,
+    nlive: int | None = None,
+    max_evaluations: int | None = None,
+    max_time_s: float | None = None,
 ) -> PosteriorResult:
     """Posterior ranges of the free parameters of ``model`` given ``measurements``, with the fit quality.
 
@@ -625,8 +642,12 @@ def invert(
     parameters : mapping or sequence of Parameter
         An ``[invert]`` table (``"LAYER.FIELD" -> {range, scale}``), checked
         by :func:`induct.inversion.priors.parse_parameters`, or checked parameters.
-    sampler : {"auto", "grid", "mcmc"}
-        ``"auto"``: grid for up to 4 free parameters, MCMC above.
+    sampler : {"auto", "grid", "nested", "ensemble", "mcmc"}
+        ``"auto"``: grid for up to 4 free parameters; above, the nested sampler
+        (dynesty, :mod:`induct.inversion.nested`) if installed, else the
+        ensemble sampler (emcee, :mod:`induct.inversion.mcmc`; ``"mcmc"`` is
+        the same). Samplers check their convergence and run longer within the
+        budget; see ``result.converged``.
     grid_points : int or sequence of int, optional
         Grid points per axis (>= 2; default 60) of the starting grid. For MCMC:
         histogram bins of the marginal maps.
@@ -639,7 +660,13 @@ def invert(
     chunk_size : int
         Grid cells per task.
     steps, walkers, seed : int, optional
-        MCMC settings (see :func:`induct.inversion.mcmc.run_mcmc`).
+        Ensemble-sampler settings (see :func:`induct.inversion.mcmc.run_mcmc`); ``seed`` also seeds the nested sampler.
+    nlive : int, optional
+        Live points of the nested sampler (see :func:`induct.inversion.nested.run_nested`).
+    max_evaluations : int, optional
+        Sampler budget of likelihood evaluations.
+    max_time_s : float, optional
+        Sampler budget of wall-clock seconds.
     refine : bool
         Grid: refine adaptively and check the resolution (:func:`run_adaptive_grid`).
     max_refinements : int
@@ -674,10 +701,10 @@ def invert(
         parameters = parse_parameters(parameters, model)
     pmap = ParameterMap(model, parameters)
     k = len(pmap.parameters)
-    if sampler not in ("auto", "grid", "mcmc"):
-        raise ValueError(f"sampler must be 'auto', 'grid' or 'mcmc', got {sampler!r}")
+    if sampler not in ("auto", "grid", "mcmc", "ensemble", "nested"):
+        raise ValueError(f"sampler must be 'auto', 'grid', 'nested' or 'ensemble' ('mcmc'), got {sampler!r}")
     if sampler == "auto":
-        sampler = "grid" if k <= MAX_GRID_PARAMETERS else "mcmc"
+        sampler = "grid" if k <= MAX_GRID_PARAMETERS else _default_sampler()
     points = DEFAULT_GRID_POINTS if grid_points is None else grid_points
     if sampler == "grid":
         setup = make_grid_setup(pmap, measurements, points, cap)
@@ -686,13 +713,18 @@ def invert(
                                        max_refinements=max_refinements)
         else:
             result = run_grid(setup, backend=backend, progress=progress, chunk_size=chunk_size)
+    elif sampler == "nested":
+        from induct.inversion.nested import run_nested
+
+        result = run_nested(pmap, measurements, bins=_grid_points(points, k), cap=cap, nlive=nlive, seed=seed,
+                            max_evaluations=max_evaluations, max_time_s=max_time_s, progress=progress)
     else:
         from induct.inversion.mcmc import run_mcmc
 
         result = run_mcmc(pmap, measurements, bins=_grid_points(points, k), cap=cap, steps=steps, walkers=walkers,
-                          seed=seed, progress=progress)
-    if not isinstance(result, PosteriorResult):  # a substituted sampler (tests)
-        return result
+                          seed=seed, progress=progress, max_evaluations=max_evaluations, max_time_s=max_time_s)
+    if not isinstance(result, PosteriorResult) or (result.method != "grid" and not result.converged):
+        return result  # a substituted sampler (tests), or an unconverged sampler: its ranges are not results
     return add_fit_quality(result, pmap, measurements, min_p_value)
 
 
@@ -720,3 +752,15 @@ def misfit_message(fit: dict) -> str:
         f"freedom, p = {fit['p_value']:.3g} < {fit['min_p_value']:g}; the ranges are not results (check the data and "
         "their errors, or allow for fields the model leaves out with a model-error term)"
     )
+
+
+def _default_sampler() -> str:
+    """The sampler above the grid's reach: nested (dynesty) if installed, else the ensemble sampler (emcee)."""
+    import importlib.util
+
+    if importlib.util.find_spec("dynesty") is not None:
+        return "nested"
+    if importlib.util.find_spec("emcee") is not None:
+        return "ensemble"
+    raise ImportError("more than 4 free parameters need a sampler: pip install 'induct[nested]' (dynesty) "
+                      "or 'induct[mcmc]' (emcee)")

@@ -125,6 +125,8 @@ class PosteriorResult:
         (:func:`induct.inversion.fitquality.fit_quality`).
     resolution : dict
         The grid's resolution check (:func:`induct.inversion.grid.run_adaptive_grid`).
+    log_evidence, log_evidence_err : float or None
+        ln Z and its 1-sigma error where computed (grid, nested sampling).
     """
 
     method: str
@@ -147,13 +149,24 @@ class PosteriorResult:
     interval: str = INTERVAL_KIND
     fit: dict = field(default_factory=dict)
     resolution: dict = field(default_factory=dict)
+    #: Natural log of the evidence (marginal likelihood, normalisation of the Gaussian likelihood included)
+    #: and its 1-sigma error, where the method computes it (grid, nested sampling); None otherwise.
+    log_evidence: float | None = None
+    log_evidence_err: float | None = None
+    #: Sampler results only: posterior samples in prior coordinates, shape (S, k), and their weights, shape (S,).
+    samples: np.ndarray | None = field(default=None, repr=False)
+    sample_weights: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def converged(self) -> bool:
-        """True when the grid's resolution check passed (grid) or the sampler converged (MCMC)."""
+        """Grid: the resolution check passed (True when no check was made); samplers: the convergence checks passed.
+
+        A sampler result that did not converge has no ranges that count as results (``induct invert`` exits 4);
+        an unresolved grid says so in its notes.
+        """
         if self.method == "grid":
-            return bool(self.resolution.get("converged", False))
-        return bool(self.diagnostics.get("converged", False))
+            return bool(self.resolution.get("converged", True))
+        return bool(self.diagnostics.get("converged", True))
 
     def to_dict(self) -> dict:
         """JSON-ready summary: ``{"ranges": {name: {"best", "68", "95", ...}}, "chi2_min", "n_models", ...}``."""
@@ -204,6 +217,10 @@ class PosteriorResult:
             "min_p_value": self.fit.get("min_p_value"),
             "converged": self.converged,
             "resolution_check": _jsonable(self.resolution) if self.resolution else None,
+            **({} if self.log_evidence is None else {
+                "log_evidence": float(self.log_evidence),
+                "log_evidence_err": None if self.log_evidence_err is None else float(self.log_evidence_err),
+            }),
             "not_modelled": MODEL_LIMITS,
         }
 

@@ -1,10 +1,14 @@
 """``induct invert`` and ``induct bench --inversion`` end to end, in-process."""
 
 import json
+import math
+from pathlib import Path
 
 import pytest
 
 from induct.cli.main import main
+
+ROOT = Path(__file__).resolve().parents[2]
 
 SCENARIO = """
 [body]
@@ -105,14 +109,75 @@ def test_bundled_scenario_and_data(capsys):
     assert out["body"] == "Ilmare" and out["data"] == "ilmare_measured.toml"
 
 
-def test_mcmc_from_the_cli(files, capsys):
+def test_unconverged_mcmc_exits_4_without_ranges(files, capsys):
+    # An ensemble run stopped by its budget: says which parameter failed which check, prints no ranges, exit 4.
     s, d, _ = files
-    with pytest.warns(UserWarning, match="shorter than 50 autocorrelation times"):
-        code = main(["invert", str(s), "--data", str(d), "--sampler", "mcmc", "--steps", "100", "--walkers", "8",
-                     "--grid", "10", "--no-progress"])
-    assert code == 0
-    out = capsys.readouterr().out
-    assert "autocorrelation time" in out and "acceptance fraction" in out and "NOT CONVERGED" in out
+    code = main(["invert", str(s), "--data", str(d), "--sampler", "mcmc", "--steps", "100", "--walkers", "8",
+                 "--max-evaluations", "800", "--grid", "10", "--quiet"])
+    assert code == 4
+    captured = capsys.readouterr()
+    out = captured.out
+    assert "NOT CONVERGED" in out and "ocean.thickness_km:" in out
+    assert ("R-hat" in out or "ESS" in out or "autocorrelation" in out)
+    assert "68 % range" not in out and "95 % range" not in out
+    assert "UserWarning" not in captured.err
+
+
+def test_unconverged_json_has_failures_and_no_ranges(files, capsys):
+    s, d, _ = files
+    code = main(["invert", str(s), "--data", str(d), "--sampler", "nested", "--nlive", "20",
+                 "--max-evaluations", "200", "--json"])
+    assert code == 4
+    out = json.loads(capsys.readouterr().out)
+    assert out["converged"] is False and "ranges" not in out and out["failures"]
+    assert out["stopped_by"] == "max_evaluations"
+
+
+def test_nested_sampler_from_the_cli_reports_the_evidence(files, capsys):
+    s, d, tmp = files
+    p = tmp / "two.toml"
+    p.write_text('"ocean.conductivity_S_per_m" = { range = [0.05, 30], scale = "log" }\n')
+    assert main(["invert", str(s), "--data", str(d), "--params", str(p), "--sampler", "nested", "--nlive", "30",
+                 "--grid", "10", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["converged"] is True and out["method"] == "nested"
+    assert set(out["ranges"]) == {"ocean.conductivity_S_per_m"}
+    assert math.isfinite(out["log_evidence"]) and out["log_evidence_err"] > 0
+
+
+def test_grid_json_has_the_log_evidence(files, capsys):
+    s, d, _ = files
+    assert main(["invert", str(s), "--data", str(d), "--grid", "8", "--no-refine", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert math.isfinite(out["log_evidence"]) and out["converged"] is True
+
+
+def test_compare_with_and_without_an_ocean(capsys):
+    # The bundled data were made with an ocean: the no-ocean hypothesis (scenarios/ilmare_no_ocean.toml) is
+    # "very strong"-ly disfavoured on the Kass & Raftery (1995, JASA 90, 773) scale (2 ln K > 10).
+    no_ocean = str(ROOT / "scenarios" / "ilmare_no_ocean.toml")
+    assert main(["compare", "ilmare", no_ocean, "--data", "ilmare_measured", "--grid", "20", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    names = [h["scenario"] for h in out["hypotheses"]]
+    assert names == ["Ilmare", "Ilmare (no ocean)"]
+    for h in out["hypotheses"]:
+        assert set(h) >= {"scenario", "log_evidence", "log_evidence_err", "priors", "method"}
+    bf = out["bayes_factors"][0]
+    assert bf["favoured"] == "Ilmare" and bf["two_ln_K"] > 10 and bf["evidence"] == "very strong"
+    assert main(["compare", "ilmare", no_ocean, "--data", "ilmare_measured", "--grid", "20", "--quiet"]) == 0
+    text = capsys.readouterr().out
+    assert "2 ln K" in text and "very strong" in text and "Kass & Raftery" in text and "plasma" in text
+
+
+def test_compare_needs_two_hypotheses_with_priors(files, capsys, tmp_path):
+    s, d, _ = files
+    assert main(["compare", str(s), "--data", str(d)]) == 2
+    assert "at least two" in capsys.readouterr().err
+    bare = tmp_path / "bare.toml"
+    bare.write_text(SCENARIO.split("[invert]")[0])
+    assert main(["compare", str(s), str(bare), "--data", str(d)]) == 2
+    err = capsys.readouterr().err
+    assert "bare.toml" in err and "no [invert] table" in err
 
 
 @pytest.mark.parametrize(
@@ -163,3 +228,55 @@ def test_bench_inversion_prints_time_and_memory(capsys):
     assert main(["bench", "--inversion", "--inversion-grid", "6", "--json"]) == 0
     res = json.loads(capsys.readouterr().out)
     assert res["model_periods"] == 6**3 * 3 and res["seconds"] > 0 and res["peak_rss_mb"] > 0
+
+
+def test_compare_by_nested_sampling(files, capsys, tmp_path):
+    # Two one-parameter hypotheses on the same data, evidence by dynesty: finite ln Z with a positive error each,
+    # agreeing with the grid evidence.
+    s, d, _ = files
+    base = SCENARIO.split("[invert]")[0]
+    a, b = tmp_path / "a.toml", tmp_path / "b.toml"
+    a.write_text(base + '[invert]\n"ocean.conductivity_S_per_m" = { range = [0.05, 30], scale = "log" }\n')
+    b.write_text(base.replace('name = "Test body"', 'name = "Other body"')
+                 + '[invert]\n"mantle.conductivity_S_per_m" = { range = [1e-4, 0.1], scale = "log" }\n')
+    assert main(["compare", str(a), str(b), "--data", str(d), "--method", "nested", "--nlive", "25", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert [h["method"] for h in out["hypotheses"]] == ["nested", "nested"]
+    assert all(math.isfinite(h["log_evidence"]) and h["log_evidence_err"] > 0 for h in out["hypotheses"])
+    # The same comparison on the grid (1 parameter, 60 points): each ln Z within 3 combined stated errors.
+    assert main(["compare", str(a), str(b), "--data", str(d), "--method", "grid", "--json"]) == 0
+    grid = json.loads(capsys.readouterr().out)
+    for h, g in zip(out["hypotheses"], grid["hypotheses"]):
+        tol = 3 * math.hypot(h["log_evidence_err"], g["log_evidence_err"])
+        assert abs(h["log_evidence"] - g["log_evidence"]) <= tol, (h, g)
+    # Occam: a parameter the data barely constrain (mantle conductivity, ocean fixed at the truth) costs no evidence,
+    # a constrained one with a wide prior does, so "Other body" is favoured.
+    assert out["bayes_factors"][0]["favoured"] == grid["bayes_factors"][0]["favoured"] == "Other body"
+
+
+def test_missing_sampler_extra_exits_2_naming_it(files, capsys, monkeypatch):
+    import builtins
+
+    real = builtins.__import__
+
+    def fake(name, *a, **kw):
+        if name == "dynesty":
+            raise ImportError("no dynesty")
+        return real(name, *a, **kw)
+
+    monkeypatch.setattr(builtins, "__import__", fake)
+    s, d, _ = files
+    assert main(["invert", str(s), "--data", str(d), "--sampler", "nested", "--quiet"]) == 2
+    assert "pip install 'induct[nested]'" in capsys.readouterr().err
+
+
+def test_interrupt_exits_130(files, capsys, monkeypatch):
+    import induct.inversion.grid as grid
+
+    def interrupted(*a, **kw):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(grid, "invert", interrupted)
+    s, d, _ = files
+    assert main(["invert", str(s), "--data", str(d), "--quiet"]) == 130
+    assert "interrupted" in capsys.readouterr().err

@@ -187,7 +187,8 @@ def test_mcmc_agrees_with_the_exact_grid():
     grid = invert(sc.model, data, table, grid_points=200)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", UserWarning)  # a short chain may be flagged as not converged
-        mc = invert(sc.model, data, table, sampler="mcmc", steps=1500, walkers=24, seed=3, grid_points=30)
+        mc = invert(sc.model, data, table, sampler="mcmc", steps=1500, walkers=24, seed=3, grid_points=30,
+                    max_evaluations=1500 * 24)  # one stretch only (the sampler would otherwise extend the chain)
     assert mc.method == "mcmc"
     d = mc.diagnostics
     assert set(d["autocorr_time"]) == {"ice shell.thickness_km", "ocean.conductivity_S_per_m"}
@@ -214,7 +215,10 @@ def test_auto_sampler_switches_to_mcmc_above_four_parameters(monkeypatch):
         called["k"] = len(pmap.parameters)
         return "sampled"
 
+    import induct.inversion.nested as nested
+
     monkeypatch.setattr(mcmc, "run_mcmc", fake)
+    monkeypatch.setattr(nested, "run_nested", fake)
     model = InteriorModel(1540.0, [Layer("ice", 1e-6, 20.0), Layer("ocean", 2.8, 95.0),
                                    Layer("mantle", 0.01, 800.0), Layer("core", 1e5)])
     table = {"ice.thickness_km": {"range": [1, 60]}, "ocean.thickness_km": {"range": [5, 250]},

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import warnings
 
 from induct.constants import MODEL_LIMITS
 from induct.cli.tables import Column, format_table
@@ -19,7 +20,9 @@ def register(subparsers):
         description=(
             "Posterior ranges of the free parameters of a scenario (its [invert] table, or --params FILE) given "
             "measured responses (--data FILE, TOML). Uniform or log-uniform priors, Gaussian likelihood; exact "
-            "evaluation on a grid for up to 4 parameters, an emcee ensemble sampler above (or with --sampler mcmc)."
+            "evaluation on a grid for up to 4 parameters, a sampler above (nested or ensemble, with --sampler) "
+            "whose convergence is checked. Exit codes: 0 ok, 2 bad input, 3 data the model cannot fit, "
+            "4 sampler not converged (no ranges are printed), 130 interrupted."
         ),
     )
     p.add_argument("scenario", help="scenario TOML file, or the name of a bundled scenario (e.g. ilmare)")
@@ -27,11 +30,17 @@ def register(subparsers):
                    help="measurement file (TOML, [[response]] tables), or a bundled one (e.g. ilmare_measured)")
     p.add_argument("--params", metavar="FILE", help="free parameters and prior ranges (TOML [invert] table); overrides the scenario's")
     p.add_argument("--grid", type=int, metavar="N", help="grid points per axis (>= 2; default 60); with --sampler mcmc: histogram bins of the maps")
-    p.add_argument("--sampler", choices=("auto", "grid", "mcmc"), default="auto",
-                   help="grid (exact) or mcmc (emcee); auto: grid for up to 4 parameters (default)")
-    p.add_argument("--steps", type=int, help="MCMC steps per walker (default 4000)")
-    p.add_argument("--walkers", type=int, help="MCMC walkers (default max(32, 4 x parameters))")
-    p.add_argument("--seed", type=int, default=0, help="MCMC random seed (default 0)")
+    p.add_argument("--sampler", choices=("auto", "grid", "nested", "ensemble", "mcmc"), default="auto",
+                   help="grid (exact), nested (dynesty; gives the evidence) or ensemble (emcee; 'mcmc' is the same); "
+                        "auto: grid for up to 4 parameters, nested above (default)")
+    p.add_argument("--steps", type=int, help="ensemble sampler: steps per walker of the first stretch (default 2000); "
+                   "the chain doubles until converged or out of budget")
+    p.add_argument("--walkers", type=int, help="ensemble sampler: walkers (default max(32, 4 x parameters))")
+    p.add_argument("--nlive", type=int, help="nested sampler: live points (default 400)")
+    p.add_argument("--max-evaluations", type=int, metavar="N",
+                   help="sampler budget of likelihood evaluations (default 2,000,000)")
+    p.add_argument("--max-time-s", type=float, metavar="S", help="sampler budget of wall-clock seconds (default none)")
+    p.add_argument("--seed", type=int, default=0, help="sampler random seed (default 0)")
     p.add_argument("--list", type=int, default=10, metavar="N", help="2-sigma combinations to print (default 10)")
     p.add_argument("--plot", metavar="FILE", help="write the corner figure to FILE (.png and .pdf)")
     add_truth_option(p)
@@ -97,14 +106,19 @@ def run(args) -> int:
         if value is not None and value < 1:
             raise ValueError(f"--{name} must be >= 1, got {value}")
     _check_size(args, scenario.model, data, params)
-    with backend_for(args) as backend:
+    with backend_for(args) as backend, warnings.catch_warnings():
+        # the sampler's convergence warning is reported below, with what failed
+        warnings.filterwarnings("ignore", message=".*not converged.*", category=UserWarning)
         result = invert(
             scenario.model, data, params, sampler=args.sampler, grid_points=args.grid,
             cap=max(args.list, DEFAULT_LIST_CAP), progress=not (args.no_progress or args.quiet or args.json),
-            steps=args.steps, walkers=args.walkers, seed=args.seed,
+            steps=args.steps, walkers=args.walkers, seed=args.seed, nlive=args.nlive,
+            max_evaluations=args.max_evaluations, max_time_s=args.max_time_s,
             backend=backend, chunk_size=args.task_size, refine=not args.no_refine,
             max_refinements=args.max_refinements, min_p_value=args.min_p_value,
         )
+    if result.method != "grid" and not result.converged:
+        return _not_converged(result, scenario, data, args.json)
     rejected = bool(result.fit) and not result.fit["acceptable"]
     code = 3 if rejected and not args.accept_misfit else 0
     written = []
@@ -161,6 +175,41 @@ def _check_size(args, model, data, params) -> None:
                   seconds=model_seconds(samples, m, layers_eff))
 
 
+#: Exit code of a sampler run whose convergence checks failed.
+EXIT_NOT_CONVERGED = 4
+
+
+def _not_converged(result, scenario, data, as_json: bool) -> int:
+    """Report a sampler run that failed its convergence checks: what failed, no ranges; exit code 4."""
+    d = result.diagnostics
+    failures = list(d.get("failures", []))
+    if as_json:
+        payload = {
+            "body": scenario.name, "data": data.source, "method": result.method, "converged": False,
+            "failures": failures, "stopped_by": d.get("stopped_by"),
+            "diagnostics": result.to_dict()["diagnostics"],
+            "message": "the sampler did not converge: no ranges are reported",
+        }
+        print(json.dumps(payload, indent=2))
+        return EXIT_NOT_CONVERGED
+    lines = [
+        f"{scenario.name}: inversion of {data.n_entries} measured response(s) from {data.source}",
+        f"method: {d.get('sampler', result.method)}",
+        "NOT CONVERGED: the sampler failed its convergence checks, so no ranges are reported. What failed:",
+    ]
+    lines.extend(f"  - {f}" for f in failures)
+    spent = {"max_evaluations": "the budget of likelihood evaluations (--max-evaluations) was spent",
+             "max_time_s": "the time budget (--max-time-s) was spent"}.get(d.get("stopped_by"), d.get("stopped_by"))
+    if result.method == "mcmc":
+        spent = f"{spent}, after {d['steps']:,d} steps x {d['walkers']} walkers"
+    lines.append(f"stopped: {spent}")
+    if d.get("criteria"):
+        lines.append(f"criteria: {d['criteria']}")
+    lines.append("to fix: raise --max-evaluations or --max-time-s, or fix fewer parameters / narrow the prior ranges")
+    print("\n".join(lines))
+    return EXIT_NOT_CONVERGED
+
+
 def _fmt(x: float) -> str:
     return f"{x:.3g}"
 
@@ -181,6 +230,12 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
                if refined else " (")
             + f"{result.n_models:,d} possible models, "
             f"{result.n_impossible:,d} physically impossible with zero prior); uniform / log-uniform priors, Gaussian likelihood"
+        )
+    elif result.method == "nested":
+        d = result.diagnostics
+        lines.append(
+            f"method: {d['sampler']} ({d['iterations']:,d} iterations, {result.n_models:,d} models evaluated, "
+            f"{result.n_impossible:,d} proposals physically impossible); uniform / log-uniform priors, Gaussian likelihood"
         )
     else:
         d = result.diagnostics
@@ -232,11 +287,24 @@ def format_summary(result, scenario, data, n_list: int = 10) -> str:
     if result.method == "mcmc":
         d = result.diagnostics
         taus = ", ".join(f"{name} {t:.0f}" for name, t in d["autocorr_time"].items())
+        worst_rhat = max(d["rhat"].values())
+        least_ess = min(min(d["ess_bulk"].values()), min(d["ess_tail"].values()))
         lines.append(
             f"MCMC diagnostics: autocorrelation time (steps) {taus}; mean acceptance fraction {d['acceptance_fraction']:.2f}; "
-            f"burn-in {d['burn_in']}, thin {d['thin']}; about {d['independent_samples']:.0f} independent samples; "
-            + ("chain longer than 50 autocorrelation times" if d["converged"] else
-               "NOT CONVERGED: chain shorter than 50 autocorrelation times, run more --steps")
+            f"burn-in {d['burn_in']}, thin {d['thin']}; largest R-hat {worst_rhat:.4f}, smallest bulk/tail ESS "
+            f"{least_ess:.0f}; converged ({d['criteria']})"
+        )
+    if result.method == "nested":
+        d = result.diagnostics
+        lines.append(
+            f"nested-sampling diagnostics: stopped by its rule (remaining ln-evidence {d['delta_logz']:.3g} < "
+            f"{d['dlogz']:g}); {d['likelihood_calls']:,d} likelihood calls; information {d['information_nats']:.2f} nats"
+        )
+    if result.log_evidence is not None:
+        err = "" if result.log_evidence_err is None else f" +/- {result.log_evidence_err:.2f}"
+        lines.append(
+            f"log evidence ln Z = {result.log_evidence:.2f}{err} (natural log; Gaussian likelihood with its "
+            "normalisation; the priors as listed; compare hypotheses with `induct compare`)"
         )
     lines.append("")
     if result.tradeoffs:
