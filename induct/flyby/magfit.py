@@ -572,6 +572,7 @@ def fit_responses(
     x = (vt.T @ ((u.T @ z) / s_safe)) / scale
     cov_scaled = (vt.T / s_safe**2) @ vt
     cov = noise_nT**2 * cov_scaled / np.outer(scale, scale)
+    cov = 0.5 * (cov + cov.T)  # exactly symmetric (rounding), as written to the measurement file
     chi2 = rss / noise_nT**2
     # Periods in the near-null space of the scaled design.
     small = s < s_max / max_condition
