@@ -34,7 +34,25 @@ phases of the driving field are needed. The fit reports
 * per period, the largest 1-sigma half-axis of its (Re, Im) error ellipse; above
   ``max_sigma`` (in units of R, which lies in [0, 1]) the period is
   "not determined";
-* pairs of periods whose estimates correlate by more than ``max_correlation``.
+* pairs of periods whose estimates correlate by more than ``max_correlation``
+  (default 0.9): the largest absolute correlation coefficient between any
+  component (Re or Im) of one period's response and any component of the
+  other's. Both periods of such a pair are "not separable" and therefore not
+  "determined": a period is determined only when it is separable (condition
+  number and correlation) and its error ellipse is small enough (``max_sigma``).
+  The element-wise correlation is used because it is what a reader of the
+  covariance matrix sees; it is at most the first canonical correlation of the
+  two (Re, Im) pairs.
+
+Fixing lines to a forward model
+-------------------------------
+With ``free`` only the chosen lines are fitted; the others are fixed to given
+responses (``fixed_responses``, for example the forward model of a scenario's
+interior): their induced field is subtracted from the residuals before the
+fit. This removes their unknowns from the fit (fewer, better-separated
+periods), at the price of trusting the forward model for the fixed lines: an
+error there ends up in the free lines' responses, which the reported
+covariance does not include.
 
 Only what the model contains is fitted: the degree-1 induced field of a
 spherically symmetric body driven by the given lines. Plasma-interaction fields,
@@ -62,14 +80,16 @@ __all__ = [
     "ResponseFit",
     "fit_responses",
     "polar_covariance",
+    "select_lines",
 ]
 
 #: Largest accepted condition number of the column-scaled design matrix.
 DEFAULT_MAX_CONDITION = 1e4
 #: Largest accepted 1-sigma half-axis of a period's (Re R, Im R) error ellipse.
 DEFAULT_MAX_SIGMA = 0.1
-#: Cross-period correlations above this are reported as "not separated".
-DEFAULT_MAX_CORRELATION = 0.95
+#: Periods whose responses correlate above this (largest |correlation| between their Re/Im components) are
+#: "not separable", hence not determined.
+DEFAULT_MAX_CORRELATION = 0.9
 
 
 def design_matrix(positions_km, times_s, radius_km, amplitudes_nT, periods_s) -> np.ndarray:
@@ -146,8 +166,9 @@ class PeriodFit:
     covariance : ndarray, shape (2, 2)
         Covariance of (Re R_1, Im R_1).
     determined : bool
-        False if the period is not separable (near-null space of the design) or
-        its error ellipse's largest 1-sigma half-axis exceeds ``max_sigma``.
+        False if the period is not separable (near-null space of the design, or a
+        correlation above ``max_correlation`` with another fitted period) or its
+        error ellipse's largest 1-sigma half-axis exceeds ``max_sigma``.
     reason : str
         Why it is not determined ("" if it is).
     """
@@ -200,9 +221,9 @@ class ResponseFit:
     Attributes
     ----------
     periods : tuple of PeriodFit
-        In the order of the driving lines.
+        The free (fitted) lines, in the order of the driving lines (K of them).
     covariance : ndarray, shape (2K, 2K)
-        Full covariance of (Re R_1, Im R_1, Re R_2, ...).
+        Full covariance of (Re R_1, Im R_1, Re R_2, ...) of the free lines.
     condition_number : float
         Of the column-scaled design matrix (inf if a column is zero).
     chi2 : float
@@ -215,6 +236,9 @@ class ResponseFit:
         ``max_condition``, ``max_sigma``, ``max_correlation`` used.
     notes : list of str
         What the flybys cannot separate, and other warnings.
+    fixed : tuple of dict
+        The lines not fitted: ``{"label", "period_h", "real", "imag"}`` of the response
+        whose induced field was subtracted from the residuals (empty when all are free).
     """
 
     periods: tuple
@@ -225,6 +249,7 @@ class ResponseFit:
     noise_nT: float
     thresholds: dict
     notes: list = field(default_factory=list)
+    fixed: tuple = ()
 
     @property
     def dof(self) -> int:
@@ -256,6 +281,7 @@ class ResponseFit:
             "noise_nT": self.noise_nT,
             "thresholds": dict(self.thresholds),
             "covariance": [[float(v) for v in row] for row in self.covariance],
+            "fixed": [dict(f) for f in self.fixed],
             "notes": list(self.notes),
         }
 
@@ -300,6 +326,9 @@ class ResponseFit:
         if skipped:
             out.append("# Not written (not determined by the flybys): "
                        + ", ".join(f"{p.period_h:.6g} h ({p.reason})" for p in skipped))
+        if self.fixed:
+            out.append("# Not fitted (fixed to the forward model, their induced field subtracted first): "
+                       + ", ".join(f"{f['label']} ({f['period_h']:.6g} h)" for f in self.fixed))
         idx = [j for i in k for j in (2 * i, 2 * i + 1)]
         if len(k) > 1:
             corr = self.correlation[np.ix_(idx, idx)]
@@ -343,18 +372,81 @@ class ResponseFit:
         return "\n".join(out)
 
 
-def _reduce(positions, times, radius_km, amps, periods, residuals):
-    """Tall-skinny QR of [A | b]: triangular factor (2K+1, 2K+1)."""
+def _reduce(positions, times, radius_km, amps, periods, residuals, fixed=None):
+    """Tall-skinny QR of [A | b]: triangular factor (2K+1, 2K+1).
+
+    ``fixed`` = (amplitudes (F, 3), periods (F,), x (2F,)): the induced field of these lines with
+    these (Re, Im) responses is subtracted from ``residuals`` chunk by chunk.
+    """
     k2 = 2 * periods.size
     r = np.zeros((0, k2 + 1))
     for start in range(0, positions.shape[0], CHUNK):
         sl = slice(start, start + CHUNK)
         a = design_matrix(positions[sl], times[sl], radius_km, amps, periods)
-        block = np.concatenate([a, residuals[sl].reshape(-1, 1)], axis=1)
+        b = residuals[sl].reshape(-1)
+        if fixed is not None:
+            b = b - design_matrix(positions[sl], times[sl], radius_km, fixed[0], fixed[1]) @ fixed[2]
+        block = np.concatenate([a, b.reshape(-1, 1)], axis=1)
         r = np.linalg.qr(np.concatenate([r, block], axis=0), mode="r")
     if r.shape[0] < k2 + 1:
         r = np.concatenate([r, np.zeros((k2 + 1 - r.shape[0], k2 + 1))], axis=0)
     return r
+
+
+def select_lines(lines, choices) -> list[int]:
+    """Indices of the driving lines named by label or by period in hours.
+
+    Parameters
+    ----------
+    lines : sequence of DriveLine
+        The driving lines.
+    choices : sequence of str or float
+        Each a line's label (exact) or its period in hours; a period matches a line
+        within half a unit of its last given digit (``"84.7"`` matches 84.65-84.75 h).
+
+    Returns
+    -------
+    list of int
+        Indices into ``lines``, sorted, without repeats.
+
+    Raises
+    ------
+    ValueError
+        If a choice matches no line or more than one, naming the choice and the lines.
+
+    Examples
+    --------
+    >>> from induct.field.drive import DriveLine
+    >>> lines = [DriveLine(12.5 * 3600, [0, 10, 0], label="a"), DriveLine(84.7 * 3600, [0, 5, 0], label="b")]
+    >>> select_lines(lines, ["b", "12.5"])
+    [0, 1]
+    """
+    labels = [ln.label or "" for ln in lines]
+    hours = [ln.period_s / SECONDS_PER_HOUR for ln in lines]
+    known = ", ".join(f"{lab or '(no label)'} ({h:.6g} h)" for lab, h in zip(labels, hours))
+    chosen = set()
+    for choice in choices:
+        text = str(choice).strip()
+        hit = [i for i, lab in enumerate(labels) if lab and lab == text]
+        if not hit:
+            try:
+                value = float(text)
+            except ValueError:
+                value = None
+            if value is not None and math.isfinite(value):
+                digits = text.lower().split("e")[0]
+                decimals = len(digits.split(".")[1]) if "." in digits else 0
+                exp = int(text.lower().split("e")[1]) if "e" in text.lower() else 0
+                tol = 0.5 * 10.0 ** (exp - decimals) * (1 + 1e-9)
+                hit = [i for i, h in enumerate(hours) if abs(h - value) <= tol]
+        if not hit:
+            raise ValueError(f"line {text!r} matches no driving line (label or period in h); the lines are: {known}")
+        if len(hit) > 1:
+            raise ValueError(f"line {text!r} matches more than one driving line: "
+                             + ", ".join(f"{labels[i] or '(no label)'} ({hours[i]:.6g} h)" for i in hit)
+                             + "; give more digits or the label")
+        chosen.add(hit[0])
+    return sorted(chosen)
 
 
 def fit_responses(
@@ -368,6 +460,8 @@ def fit_responses(
     max_condition: float = DEFAULT_MAX_CONDITION,
     max_sigma: float = DEFAULT_MAX_SIGMA,
     max_correlation: float = DEFAULT_MAX_CORRELATION,
+    free=None,
+    fixed_responses=None,
 ) -> ResponseFit:
     """Least-squares fit of the complex degree-1 response at each driving period.
 
@@ -387,6 +481,12 @@ def fit_responses(
         1-sigma noise of each component (nT), > 0.
     max_condition, max_sigma, max_correlation : float
         Thresholds (see the module docstring).
+    free : sequence of int, optional
+        Indices of the lines to fit (see :func:`select_lines`); default all. The others
+        are fixed to ``fixed_responses``.
+    fixed_responses : array_like of complex, shape (len(lines),), optional
+        Responses R_1 of all lines (exp(+i w t) convention, e.g. a forward model's);
+        required when ``free`` leaves a line out, used only for the fixed lines.
 
     Returns
     -------
@@ -395,7 +495,22 @@ def fit_responses(
     Raises
     ------
     ValueError
-        Bad shapes or values (naming the row), fewer data than unknowns, bad thresholds.
+        Bad shapes or values (naming the row), fewer data than unknowns, bad thresholds,
+        a bad ``free`` index or missing ``fixed_responses``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from induct.field.drive import DriveLine
+    >>> from induct.flyby.induced import induced_field_nT
+    >>> lines = [DriveLine(12.0 * 3600, [0, 100, 0], label="a"), DriveLine(40.0 * 3600, [0, 30, 0], label="b")]
+    >>> t = np.linspace(0.0, 6 * 86400.0, 400)
+    >>> pos = np.column_stack([2500.0 * np.cos(t / 5e4), 2500.0 * np.sin(t / 5e4), 300.0 + 0 * t])
+    >>> truth = np.array([0.8 - 0.2j, 0.5 - 0.3j])
+    >>> b = induced_field_nT(pos, t, 1540.0, truth, np.array([ln.b_complex_nT for ln in lines]), [12.0 * 3600, 40.0 * 3600])
+    >>> fit = fit_responses(lines, 1540.0, pos, t, b, 0.5, free=[0], fixed_responses=truth)
+    >>> [p.label for p in fit.periods], bool(abs(fit.periods[0].response - truth[0]) < 1e-9)
+    (['a'], True)
     """
     from induct.flyby.induced import check_lines
 
@@ -419,11 +534,33 @@ def fit_responses(
         raise ValueError(f"max_sigma must be > 0, got {max_sigma!r}")
     if not (0.0 < max_correlation <= 1.0):
         raise ValueError(f"max_correlation must be in (0, 1], got {max_correlation!r}")
+    n_lines = periods.size
+    if free is None:
+        free_idx = list(range(n_lines))
+    else:
+        free_idx = sorted({int(i) for i in free})
+        if not free_idx or free_idx[0] < 0 or free_idx[-1] >= n_lines:
+            raise ValueError(f"free must name at least one of the {n_lines} lines by index 0..{n_lines - 1}, got {list(free)!r}")
+    fixed_idx = [i for i in range(n_lines) if i not in free_idx]
+    fixed_info = ()
+    fixed = None
+    if fixed_idx:
+        if fixed_responses is None:
+            raise ValueError("fixed_responses is needed for the lines that are not free: "
+                             + ", ".join(labels[i] for i in fixed_idx))
+        fr = np.asarray(fixed_responses, dtype=complex).reshape(-1)
+        if fr.shape != (n_lines,) or not np.all(np.isfinite(fr[fixed_idx])):
+            raise ValueError(f"fixed_responses must be {n_lines} finite complex responses, got {fixed_responses!r}")
+        xf = np.column_stack([fr[fixed_idx].real, fr[fixed_idx].imag]).reshape(-1)
+        fixed = (amps[fixed_idx], periods[fixed_idx], xf)
+        fixed_info = tuple({"label": labels[i], "period_h": float(periods[i] / SECONDS_PER_HOUR),
+                            "real": float(fr[i].real), "imag": float(fr[i].imag)} for i in fixed_idx)
+    periods, amps, labels = periods[free_idx], amps[free_idx], [labels[i] for i in free_idx]
     k = periods.size
     if 3 * pos.shape[0] <= 2 * k:
         raise ValueError(f"need more than {2 * k} data (3 per point) for {k} periods, got {3 * pos.shape[0]}")
 
-    r_aug = _reduce(pos, t, radius_km, amps, periods, res)
+    r_aug = _reduce(pos, t, radius_km, amps, periods, res, fixed)
     r, z, rss = r_aug[: 2 * k, : 2 * k], r_aug[: 2 * k, 2 * k], float(r_aug[2 * k, 2 * k] ** 2)
     norms = np.linalg.norm(r, axis=0)  # column norms of A (R has the same column norms)
     scale = np.where(norms > 0.0, norms, 1.0)
@@ -435,6 +572,7 @@ def fit_responses(
     x = (vt.T @ ((u.T @ z) / s_safe)) / scale
     cov_scaled = (vt.T / s_safe**2) @ vt
     cov = noise_nT**2 * cov_scaled / np.outer(scale, scale)
+    cov = 0.5 * (cov + cov.T)  # exactly symmetric (rounding), as written to the measurement file
     chi2 = rss / noise_nT**2
     # Periods in the near-null space of the scaled design.
     small = s < s_max / max_condition
@@ -442,6 +580,15 @@ def fit_responses(
     if small.any():
         v_small = vt[small].T  # (2K, m)
         weight = np.sum(v_small.reshape(k, 2, -1) ** 2, axis=(1, 2))
+    sd = np.sqrt(np.diag(cov))
+    corr = cov / np.outer(np.where(sd > 0.0, sd, 1.0), np.where(sd > 0.0, sd, 1.0))
+    # Pairs of periods correlated above max_correlation (largest |correlation| between their components).
+    pair_corr = {}
+    for i in range(k):
+        for j in range(i + 1, k):
+            c_ij = float(np.max(np.abs(corr[2 * i: 2 * i + 2, 2 * j: 2 * j + 2])))
+            if c_ij > max_correlation:
+                pair_corr[i, j] = c_ij
     notes = []
     fits = []
     for i in range(k):
@@ -449,8 +596,14 @@ def fit_responses(
         reasons = []
         if norms[2 * i] == 0.0 and norms[2 * i + 1] == 0.0:
             reasons.append("the line has no field along these flybys (zero amplitude)")
-        elif weight[i] > 0.01:
-            reasons.append(f"not separable from the other periods (condition number {condition:.3g} > {max_condition:.3g})")
+        else:
+            if weight[i] > 0.01:
+                reasons.append(f"not separable from the other periods (condition number {condition:.3g} > {max_condition:.3g})")
+            partners = [(j if a == i else a, v) for (a, j), v in pair_corr.items() if i in (a, j)]
+            if partners:
+                reasons.append("not separable from " + ", ".join(
+                    f"{labels[j]} ({periods[j] / SECONDS_PER_HOUR:.6g} h, correlation {v:.3f} > {max_correlation:g})"
+                    for j, v in partners))
         sig = math.sqrt(max(np.linalg.eigvalsh(c)[-1], 0.0))
         if sig > max_sigma:
             reasons.append(f"1-sigma uncertainty {sig:.3g} > {max_sigma:g}")
@@ -461,19 +614,19 @@ def fit_responses(
             f"the flybys do not separate all periods: condition number {condition:.3g} of the column-scaled design "
             f"matrix exceeds {max_condition:.3g}; add flybys at other phases of the driving field or fit fewer periods"
         )
-    sd = np.sqrt(np.diag(cov))
-    corr = cov / np.outer(sd, sd)
-    for i in range(k):
-        for j in range(i + 1, k):
-            block = np.abs(corr[2 * i: 2 * i + 2, 2 * j: 2 * j + 2])
-            if np.max(block) > max_correlation:
-                notes.append(
-                    f"periods {periods[i] / SECONDS_PER_HOUR:.6g} h and {periods[j] / SECONDS_PER_HOUR:.6g} h are not "
-                    f"separated by these flybys: correlation {np.max(block):.3f} > {max_correlation:g}"
-                )
+    for (i, j), v in pair_corr.items():
+        notes.append(
+            f"periods {periods[i] / SECONDS_PER_HOUR:.6g} h and {periods[j] / SECONDS_PER_HOUR:.6g} h are not "
+            f"separated by these flybys: correlation {v:.3f} > {max_correlation:g}; fix one to the forward model "
+            "(induct fit --lines) or add flybys"
+        )
     for p in fits:
         if not p.determined:
             notes.append(f"period {p.period_h:.6g} h ({p.label}) not determined: {p.reason}")
+    if fixed_info:
+        notes.append("fixed to the given responses (forward model), not fitted: "
+                     + ", ".join(f"{f['label']} ({f['period_h']:.6g} h)" for f in fixed_info)
+                     + "; an error in them goes into the free lines' responses and is not in the covariance")
     dof = 3 * pos.shape[0] - 2 * k
     if dof > 0 and chi2 / dof > 1.0 + 5.0 * math.sqrt(2.0 / dof):
         notes.append(
@@ -482,4 +635,5 @@ def fit_responses(
             "the uncertainties are too small"
         )
     thresholds = {"max_condition": max_condition, "max_sigma": max_sigma, "max_correlation": max_correlation}
-    return ResponseFit(tuple(fits), cov, condition, chi2, 3 * pos.shape[0], float(noise_nT), thresholds, notes)
+    return ResponseFit(tuple(fits), cov, condition, chi2, 3 * pos.shape[0], float(noise_nT), thresholds, notes,
+                       fixed_info)

@@ -142,19 +142,52 @@ def test_flyby_residuals_fit_json_toml_and_invert(tmp_path, capsys):
     for key in ("period_h", "amplitude", "amplitude_sigma", "phase_lag_deg", "phase_lag_sigma_deg", "real", "imag", "cov"):
         assert key in entry
     assert len(result["response"]) == 5 and result["thresholds"]["max_sigma"] == 0.1
-    assert entry["label"] == "synodic" and entry["determined"]
-    # Two short passes cannot separate five periods: the output says which are not determined.
-    assert not result["separable"] and any("not determined" in n for n in result["notes"])
+    assert result["thresholds"]["max_correlation"] == 0.9 and entry["label"] == "synodic"
+    # Two short passes cannot separate five periods: every line correlates above 0.9 with another, so none is
+    # "determined" (issue 11 item 8: "not separable", never "determined"), and the output says so.
+    assert not result["separable"] and not any(e["determined"] for e in result["response"])
+    assert "not separable from orbital" in entry["reason"] and any("not separated" in n for n in result["notes"])
+    code, stdout, err = run(capsys, ["fit", "ilmare", "--data", str(res1), str(res2), "--noise-nT", "0.5"])
+    assert code == 0, err
+    synodic_row = next(line for line in stdout.splitlines() if line.startswith("synodic"))
+    assert synodic_row.endswith("NO") and "(determined = all three hold)" in stdout
+    # --lines synodic 84.7: the synodic and orbital (84.69 h) lines free, the other three fixed to the forward
+    # model of the scenario's interior; both free lines are determined.
     toml = tmp_path / "fitted.toml"
     code, stdout, err = run(capsys, ["fit", "ilmare", "--data", str(res1), str(res2), "--noise-nT", "0.5",
-                                     "--toml", str(toml)])
-    assert code == 0, err and "written to" in stdout
+                                     "--lines", "synodic", "84.7", "--json", "--toml", str(toml)])
+    assert code == 0, err
+    result = json.loads(stdout)
+    assert [e["label"] for e in result["response"]] == ["synodic", "orbital"]
+    assert all(e["determined"] for e in result["response"]) and result["separable"]
+    assert [f["label"] for f in result["fixed"]] == ["beat syn-orb", "synodic/2", "beat syn+orb"]
+    want = load_scenario("ilmare").model.response(periods_s=[f["period_h"] * 3600.0 for f in result["fixed"]]).response
+    assert np.allclose([f["real"] + 1j * f["imag"] for f in result["fixed"]], want, rtol=0, atol=1e-12)
+    # The measurement file holds the free lines' full covariance (across periods and components, file order):
+    # equal to the fit's covariance to 1e-12 relative (written with repr, read by invert's reader).
     m = load_measurements(toml)
-    assert m.n_entries == sum(e["determined"] for e in result["response"])
-    assert m.values[0][0] == entry["real"] and m.values[0][1] == entry["imag"]
+    assert m.n_entries == 2 and result["toml"]["entries"] == 2
+    assert m.values[0][0] == result["response"][0]["real"] and m.values[0][1] == result["response"][0]["imag"]
+    cov = np.array(result["covariance"])
+    assert m.full_covariance is not None and abs(cov[0, 2]) > 0  # a cross-period term is present
+    err_cov = np.abs(m.full_covariance - cov).max()
+    assert err_cov <= 1e-12 * np.abs(cov).max(), f"largest difference {err_cov:.3g}"
+    # invert's chi-square on these data is the generalised one, r^T C^-1 r with the full C (Tarantola 2005, Inverse
+    # Problem Theory, ch. 3, from memory), not the block-diagonal one; checked with numpy.linalg.solve to 1e-9.
+    r = np.array([0.9 + 0.1j, 0.1 - 0.05j])
+    d = (np.column_stack([r.real, r.imag]) - m.values).reshape(-1)
+    full = d @ np.linalg.solve(cov, d)
+    block = sum(d[2 * k: 2 * k + 2] @ np.linalg.solve(cov[2 * k: 2 * k + 2, 2 * k: 2 * k + 2], d[2 * k: 2 * k + 2])
+                for k in range(2))
+    got = float(m.chi2(r))
+    assert abs(got - full) <= 1e-9 * full and abs(full - block) > 1e-3 * full, (got, full, block)
     code, stdout, err = run(capsys, ["invert", "ilmare", "--data", str(toml), "--grid", "6", "--json"])
     assert code == 0, err
     assert json.loads(stdout)["data"] == "fitted.toml"
+    # An unknown label or period: exit 2 with one line naming it.
+    for bad in ("nope", "99.5"):
+        code, _, err = run(capsys, ["fit", "ilmare", "--data", str(res1), "--noise-nT", "0.5", "--lines", "synodic", bad])
+        assert code == 2 and f"line '{bad}' matches no driving line" in err and len(err.strip().splitlines()) == 1, err
 
 
 def test_bench_flyby_option(capsys):

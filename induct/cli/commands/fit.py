@@ -4,6 +4,7 @@ Examples::
 
     induct fit ilmare --data residuals.csv --noise-nT 0.5
     induct fit ilmare --data pass1.csv pass2.csv --noise-nT 0.5 --json --toml fitted.toml
+    induct fit ilmare --data pass1.csv pass2.csv --noise-nT 0.5 --lines synodic 84.7 --toml fitted.toml
     induct invert ilmare --data fitted.toml
     induct fit my_moon.toml --data pass1.cdf --field-variable B_res --position-variable Position --noise-nT 0.5
 
@@ -16,7 +17,12 @@ read with cdflib following the ISTP conventions (--field-variable,
 With --spice (and --spacecraft, --moon, --planet) the positions come from
 SPICE kernels at each sample's time instead of from the files.
 Linear least squares for Re and Im of
-R_1 at every [[drive.lines]] period, with the full covariance.
+R_1 at every [[drive.lines]] period, with the full covariance. With --lines
+only the named lines are fitted; the others are fixed to the forward model of
+the scenario's interior (their induced field is subtracted first). A line whose
+response correlates above --max-correlation (0.9) with another's is "not
+separable" and not determined; the measurement file keeps the full covariance
+of the written entries across periods and components.
 """
 
 from __future__ import annotations
@@ -59,7 +65,12 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--max-sigma", type=float, default=DEFAULT_MAX_SIGMA,
                    help=f"largest 1-sigma half-axis of a period's (Re, Im) error ellipse (default {DEFAULT_MAX_SIGMA:g})")
     p.add_argument("--max-correlation", type=float, default=DEFAULT_MAX_CORRELATION,
-                   help=f"report period pairs correlated above this (default {DEFAULT_MAX_CORRELATION:g})")
+                   help="a line whose response correlates above this with another line's (largest |correlation| "
+                   "between their Re/Im components) is not separable, hence not determined "
+                   f"(default {DEFAULT_MAX_CORRELATION:g})")
+    p.add_argument("--lines", nargs="+", metavar="LINE",
+                   help="fit only these driving lines (label, or period in hours: --lines synodic 84.7); the others "
+                   "are fixed to the forward model of the scenario's interior and their induced field is subtracted")
     return p
 
 
@@ -68,7 +79,7 @@ def _g(value) -> str:
 
 
 def run(args) -> int:
-    from induct.flyby.magfit import fit_responses
+    from induct.flyby.magfit import fit_responses, select_lines
     from induct.io.files import write_text
     from induct.io.measurements import parse_measurements
     from induct.io.scenario import load_scenario
@@ -89,10 +100,18 @@ def run(args) -> int:
             f"{scenario.path or scenario.name}: no [[drive.lines]]; write them with "
             "`induct drive PLANET.toml --write-scenario SCENARIO.toml`"
         )
+    if args.lines:
+        select_lines(lines, args.lines)  # unknown label/period: error before reading the data
     data = residuals_from_args(args, scenario)
     pos, t, b, sources, frames = data.positions_km, data.times_s, data.residuals_nT, data.sources, data.frames
+    free, fixed_responses = None, None
+    if args.lines:
+        free = select_lines(lines, args.lines)
+        if len(free) < len(lines):
+            fixed_responses = scenario.model.response(periods_s=[ln.period_s for ln in lines]).response
     fit = fit_responses(lines, scenario.model.radius_km, pos, t, b, args.noise_nt, max_condition=args.max_condition,
-                        max_sigma=args.max_sigma, max_correlation=args.max_correlation)
+                        max_sigma=args.max_sigma, max_correlation=args.max_correlation, free=free,
+                        fixed_responses=fixed_responses)
     result = fit.to_dict()
     result.update({
         "induct_version": __version__,
@@ -137,9 +156,12 @@ def run(args) -> int:
         print(f"{p['label']:<14} {p['period_h']:>10.5f} {p['amplitude']:>8.4f} +-{_g(p['amplitude_sigma']):<6} "
               f"{p['phase_lag_deg']:>8.2f} +-{_g(p['phase_lag_sigma_deg']):<6} {p['real']:>9.4f} {p['imag']:>9.4f} "
               f"{p['sigma_max']:>9.3g}  {'yes' if p['determined'] else 'NO'}")
+    for f in fit.fixed:
+        print(f"{f['label']:<14} {f['period_h']:>10.5f} fixed to the forward model: real {f['real']:.4f}, "
+              f"imag {f['imag']:.4f} (not fitted)")
     th = fit.thresholds
     print(f"thresholds: condition number <= {th['max_condition']:g}, sigma_max <= {th['max_sigma']:g}, "
-          f"cross-period correlation <= {th['max_correlation']:g}")
+          f"cross-period correlation <= {th['max_correlation']:g} (determined = all three hold)")
     for d in data.dropped:
         print(f"{d['file']}: {d['records']} records, {d['kept']} used; dropped {d['fill']} with fill values, "
               f"{d['out_of_range']} outside VALIDMIN/VALIDMAX")

@@ -34,8 +34,9 @@ _VALUES = "V, V1,V2,... or LO:HI:N"
 INVERSION_NOTE = (
     "The widths are those of an inversion that uses every driving period and the full response covariance of "
     "the fit (cross-period terms included). The measurement file of `induct fit` keeps only the periods it "
-    "determines and drops cross-period covariances; inverting that file can give far wider ranges when the "
-    "flybys do not separate the periods (see the separability table)."
+    "determines (with their full covariance); a period that the flybys do not separate is not written, or must "
+    "be fixed to the forward model (`induct fit --lines`), so inverting that file can give wider ranges "
+    "(see the separability table)."
 )
 
 
