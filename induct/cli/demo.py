@@ -394,7 +394,13 @@ def run_demo(out_dir="induct-demo", fast: bool = False, progress: bool = True, o
         step.seconds = time.perf_counter() - start
         step.files = sorted(Path(f) for f in files)
     bar.close()
-    report = write_text(out / "report.md", _report(steps, out, fast))
+    # bundled files are named by their bundled name, not by where this installation keeps them
+    from induct.io.bundled import bundled_files
+
+    text = _report(steps, out, fast)
+    for path in sorted(set(bundled_files(".csv").values()) | set(bundled_files(".toml").values()), key=str):
+        text = text.replace(str(path), path.stem)
+    report = write_text(out / "report.md", text)
     return steps, report
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
+from induct.model.parameters import FIELDS
 
 __all__ = ["plot_plan"]
 
@@ -107,7 +108,7 @@ def plot_plan(plan, geometry, path=None, *, title: str | None = None, formats=("
         else:
             rel = np.concatenate([[1.0], widths[:, j] / prior[j]])
         ax3.plot(steps, rel, marker="o", lw=1.8, color=plotting.COLORS[j % len(plotting.COLORS)],
-                 label=f"{p.name}" + (" (decades)" if p.log else ""))
+                 label=f"{p.layer} {FIELDS[p.field].word}" + (" (in decades)" if p.log else ""))
     ax3.set_yscale("log")
     plotting.plain_log_ticks(ax3.yaxis)
     ax3.set_xticks(steps)
