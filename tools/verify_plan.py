@@ -22,8 +22,10 @@ has a low signal-to-noise ratio: the posterior is far from Gaussian (bounded by 
 linearised widths do not describe the spread.
 
 What the check leaves out (as the planning model does): plasma-interaction fields, asymmetric shells,
-motional induction, primary-field errors. The measurement file keeps only the periods the fit determines and
-drops cross-period covariances (its format has none); the largest dropped correlation is printed.
+motional induction, primary-field errors. The ``file`` path inverts only the periods the fit determines, each with
+its own 2 x 2 covariance (as this check was first written; `induct fit --toml` now also writes the cross-period
+``[covariance]``, and `--lines` fixes the lines a flyby set cannot separate); the largest correlation that path
+leaves out is printed.
 
 Run from the repository root::
 
