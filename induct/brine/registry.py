@@ -466,6 +466,25 @@ def unregister_solute(name) -> Solute:
 _EUTECTIC_NOTE = (" for the ice liquidus of {name} (above the eutectic the first solid to form is the salt, "
                   "see the saturation limit)")
 
+#: What the single-salt brines share: the g/kg scale and the ion-additive conductivity and Pitzer freezing models.
+_SINGLE_SALT_MODELS = dict(
+    salinity=G_PER_KG,
+    conductivity_model=solutions.brine_conductivity,
+    extrapolation_flags=extrapolation.reference_range_flags,
+    freezing_model=freezing.brine_freezing_point,
+)
+
+
+def _single_salt_limits(**saturation) -> Limits:
+    """Limits of a single-salt brine: the shared temperature ranges plus its own saturation table."""
+    return Limits(
+        temperature_C=(_limits.T_MIN_WALDEN_C, _limits.T_MAX_SOLUTIONS_C),
+        freezing_note=_EUTECTIC_NOTE,
+        reference_temperature_C=(0.0, _limits.T_MAX_SOLUTIONS_C),
+        **saturation,
+    )
+
+
 _BUILTIN = (
     Solute(
         name="seawater",
@@ -504,17 +523,11 @@ _BUILTIN = (
         aliases=("sodium chloride",),
         description="McCleskey et al. (2012) ion-additive conductivity with a concentrated-solution factor; "
                     "Bodnar (1993) freezing point",
-        salinity=G_PER_KG,
-        conductivity_model=solutions.brine_conductivity,
-        extrapolation_flags=extrapolation.reference_range_flags,
-        freezing_model=freezing.brine_freezing_point,
-        limits=Limits(
-            temperature_C=(_limits.T_MIN_WALDEN_C, _limits.T_MAX_SOLUTIONS_C),
-            freezing_note=_EUTECTIC_NOTE,
+        **_SINGLE_SALT_MODELS,
+        limits=_single_salt_limits(
             saturation_t_C=(None, -17.78, -12.22, -6.67, -1.1, 0.0, 0.1, 10.0, 21.11, 37.78, 51.67, 65.56),
             saturation_w=(0.232, 0.2383, 0.2470, 0.2553, 0.2616, 0.2629, 0.2631, 0.2636, 0.2645, 0.2668,
                           0.2692, 0.2721),
-            reference_temperature_C=(0.0, _limits.T_MAX_SOLUTIONS_C),
         ),
         reference_point=(10.0, 20.0, 0.0),
         sources=(
@@ -538,16 +551,10 @@ _BUILTIN = (
         aliases=("magnesium sulfate", "magnesium sulphate"),
         description="McCleskey et al. (2012) ion-additive conductivity with MgSO4(aq) ion pairing and a "
                     "concentrated-solution factor; Pitzer ice-equilibrium freezing point",
-        salinity=G_PER_KG,
-        conductivity_model=solutions.brine_conductivity,
-        extrapolation_flags=extrapolation.reference_range_flags,
-        freezing_model=freezing.brine_freezing_point,
-        limits=Limits(
-            temperature_C=(_limits.T_MIN_WALDEN_C, _limits.T_MAX_SOLUTIONS_C),
-            freezing_note=_EUTECTIC_NOTE,
+        **_SINGLE_SALT_MODELS,
+        limits=_single_salt_limits(
             saturation_t_C=(None, 0.0, 10.0, 20.0, 25.0, 30.0, 40.0, 50.0, 60.0),
             saturation_w=(0.173, 0.182, 0.217, 0.251, 0.263, 0.282, 0.309, 0.334, 0.353),
-            reference_temperature_C=(0.0, _limits.T_MAX_SOLUTIONS_C),
         ),
         reference_point=(50.0, 20.0, 0.0),
         sources=(
@@ -576,16 +583,10 @@ _BUILTIN = (
         aliases=("potassium chloride",),
         description="McCleskey et al. (2012) ion-additive conductivity with a concentrated-solution factor; "
                     "Pitzer ice-equilibrium freezing point",
-        salinity=G_PER_KG,
-        conductivity_model=solutions.brine_conductivity,
-        extrapolation_flags=extrapolation.reference_range_flags,
-        freezing_model=freezing.brine_freezing_point,
-        limits=Limits(
-            temperature_C=(_limits.T_MIN_WALDEN_C, _limits.T_MAX_SOLUTIONS_C),
-            freezing_note=_EUTECTIC_NOTE,
+        **_SINGLE_SALT_MODELS,
+        limits=_single_salt_limits(
             saturation_t_C=(None, 0.0, 10.0, 20.0, 25.0, 30.0, 40.0, 50.0, 60.0),
             saturation_w=(0.1987, 0.2174, 0.2361, 0.2539, 0.2622, 0.2704, 0.2859, 0.3004, 0.3140),
-            reference_temperature_C=(0.0, _limits.T_MAX_SOLUTIONS_C),
         ),
         reference_point=(10.0, 20.0, 0.0),
         sources=(
