@@ -449,3 +449,33 @@ def test_fit_with_positions_from_spice(tmp_path, capsys, kernels):
     one_line_error(code, err, "--start", "--data")
     code, _, err = run(capsys, ["fit", scenario, "--noise-nT", "0.5", "--data", bare, *body[:-2], "--planet", "NOPE"])
     one_line_error(code, err, "bare.csv", "planet 'NOPE'")
+
+
+# --------------------------------------------------------------------------- SPICE tracks in plan
+def test_plan_spice_candidate_equals_the_same_track_as_a_candidate_file(tmp_path, capsys, kernels):
+    # The track from the kernels is one candidate of `induct plan`; written as a candidate CSV (same times and
+    # positions) it must give the same information (identity: one Fisher computation, two input paths).
+    import json
+
+    from induct.io.candidates import write_candidates
+    from induct.io.spice_track import spice_track
+    from induct.planning.candidates import Candidate
+
+    scenario = scenario_with_epoch(tmp_path)
+    code, out, err = run(capsys, ["plan", scenario, *spice_args(kernels), "--noise-nT", "0.5", "--choose", "1", "--json"])
+    assert code == 0, err
+    spice = json.loads(out)
+    assert spice["selected"] == [f"spice:{START}"]
+    track = spice_track(kernels, -9900, 9101, 9100, START, STOP, 30.0, epoch_utc=EPOCH)
+    write_candidates(tmp_path / "c.csv", [Candidate("same", track.times_s, track.positions_km)])
+    code, out, err = run(capsys, ["plan", scenario, "--candidates", tmp_path / "c.csv", "--noise-nT", "0.5",
+                                  "--choose", "1", "--json"])
+    assert code == 0, err
+    csv = json.loads(out)
+    a, b = spice["candidates"][0]["log_det"], csv["candidates"][0]["log_det"]
+    assert abs(a - b) <= 1e-9 * abs(b), (a, b)
+    # beside generated candidates
+    code, out, err = run(capsys, ["plan", scenario, *spice_args(kernels), "--altitude-km", "100,400", "--phase-deg", "0",
+                                  "--noise-nT", "0.5", "--choose", "2", "--json"])
+    assert code == 0, err
+    assert len(json.loads(out)["candidates"]) == 3

@@ -10,6 +10,7 @@ import numpy as np
 
 from induct.constants import MODEL_LIMITS
 from induct.cli.tables import Column, format_table
+from induct.cli.commands._tracks import add_track_options, spice_requested, track_from_args
 
 #: Largest candidates x samples evaluated unless ``--max-samples`` says otherwise (about 0.2 GB of tracks).
 DEFAULT_MAX_SAMPLES = 5_000_000
@@ -85,6 +86,7 @@ def register(subparsers):
     p.add_argument("--out", metavar="DIR",
                    help="write DIR/plan_candidates.csv, DIR/plan_selection.csv, DIR/plan.json and the figure DIR/plan.png/.pdf")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    add_track_options(p, group_title="a candidate track from SPICE kernels (--step-s is the sampling step)")
     return p
 
 
@@ -119,11 +121,25 @@ def _check_size(n_candidates: int, n_samples: int, args, where: str):
 
 
 def build_candidates(args, scenario):
-    """The candidate flybys of the command line: read from ``--candidates`` or generated; size checked first."""
-    from induct.planning.candidates import generate_candidates, moon_gm_km3_s2
+    """The candidate flybys of the command line: a track from SPICE kernels, ``--candidates``, generated ones.
 
+    ``--spice`` adds the spacecraft's track from the kernels (``--start``/``--stop``/``--step-s``) as one
+    candidate, alone or beside the file's or the generated candidates. Sizes are checked first.
+    """
+    from induct.planning.candidates import Candidate, generate_candidates, moon_gm_km3_s2
+
+    spice = []
+    if spice_requested(args):
+        track, notes = track_from_args(args, scenario)
+        spice = [Candidate(f"spice:{args.start}", track.times_s, track.positions_km, {"source": track.source})]
+        if args.candidates is None and args.altitude_km is None:
+            return spice
+    return _file_or_generated(args, scenario, Candidate, generate_candidates, moon_gm_km3_s2) + spice
+
+
+def _file_or_generated(args, scenario, Candidate, generate_candidates, moon_gm_km3_s2):
     given = [opt for opt, attr, _ in _GENERATION if getattr(args, attr) is not None]
-    if args.step_s is not None:
+    if args.step_s is not None and not spice_requested(args):
         given.append("--step-s")
     if args.trajectory is not None:
         given.append("--trajectory")
