@@ -5,9 +5,12 @@ for each free parameter ``p`` (named CF-safe, e.g. ``ocean_thickness_km``) the
 coordinate ``p`` (bin midpoints, field units, with ``units``, ``parameter``,
 ``prior_scale`` and ``bin_edges`` in the prior coordinate), the variable
 ``marginal_p`` (posterior mass per bin, sums to 1), and for each pair the 2-D
-marginal ``map_p_q``. Global attributes carry the ranges, the best fit, chi2_min,
-dof, p-value, the resolution check and what the model leaves out. Written
-atomically (:mod:`induct.io.files`).
+marginal ``map_p_q``. A sampler's result (nested or ensemble) also carries its
+posterior samples along the dimension ``sample``: ``sample_p`` (field units) and
+``sample_weight`` (normalised to sum 1; equal weights for the ensemble sampler).
+Global attributes carry the ranges, the best fit, chi2_min, dof, p-value, the
+evidence where computed, the resolution check and what the model leaves out.
+Written atomically (:mod:`induct.io.files`).
 """
 
 from __future__ import annotations
@@ -20,10 +23,10 @@ from induct import __version__
 from induct.constants import MODEL_LIMITS
 from induct.io.files import atomic_path
 from induct.io.map_files import cf_name, require_netcdf
+from induct.model.parameters import FIELDS
 
 __all__ = ["posterior_dataset", "write_posterior_netcdf"]
 
-_CF_UNITS = {"km": "km", "S/m": "S m-1", "g/kg": "g kg-1", "degC": "degC", "S": "S"}
 
 
 def posterior_dataset(result):
@@ -43,7 +46,7 @@ def posterior_dataset(result):
     for p, name, e, mass in zip(result.parameters, names, result.edges, result.marginals):
         mids = p.from_prior(0.5 * (np.asarray(e)[:-1] + np.asarray(e)[1:]))
         coords[name] = (name, np.asarray(mids, dtype=float), {
-            "long_name": p.name, "parameter": p.name, "units": _CF_UNITS.get(p.unit, p.unit),
+            "long_name": p.name, "parameter": p.name, "units": FIELDS[p.field].cf_unit,
             "prior_scale": p.scale, "prior_range": np.array([p.lo, p.hi], dtype=float),
             "bin_edges_prior_coordinate": np.asarray(e, dtype=float),
         })
@@ -53,6 +56,15 @@ def posterior_dataset(result):
         data[f"map_{names[i]}_{names[j]}"] = ((names[i], names[j]), np.asarray(mass, dtype=float), {
             "long_name": f"2-D marginal posterior mass of {result.parameters[i].name} and {result.parameters[j].name}",
             "units": "1"})
+    if result.samples is not None:
+        samples = np.asarray(result.samples, dtype=float)
+        weights = (np.full(samples.shape[0], 1.0) if result.sample_weights is None
+                   else np.asarray(result.sample_weights, dtype=float))
+        for k, (p, name) in enumerate(zip(result.parameters, names)):
+            data[f"sample_{name}"] = ("sample", np.asarray(p.from_prior(samples[:, k]), dtype=float), {
+                "long_name": f"posterior sample of {p.name}", "units": FIELDS[p.field].cf_unit})
+        data["sample_weight"] = ("sample", weights / weights.sum(), {
+            "long_name": "weight of each posterior sample (sums to 1)", "units": "1"})
     fit = result.fit or {}
     attrs = {
         "title": "posterior of an induct inversion",
@@ -70,6 +82,9 @@ def posterior_dataset(result):
         "resolution_check_json": json.dumps(result.to_dict()["resolution_check"]),
         "comment": MODEL_LIMITS,
     }
+    if result.log_evidence is not None:
+        attrs["log_evidence"] = float(result.log_evidence)
+        attrs["log_evidence_err"] = float("nan") if result.log_evidence_err is None else float(result.log_evidence_err)
     return xr.Dataset(data, coords=coords, attrs=attrs)
 
 

@@ -58,7 +58,7 @@ def register(subparsers):
                    help="add a model-error covariance: variance (FRACTIONAL |R|)^2 + ABSOLUTE^2 on each of Re R and "
                         "Im R, the way to allow for fields the model leaves out (replaces the file's [model_error])")
     p.add_argument("--save-posterior", metavar="FILE.nc",
-                   help="write the resolved grid posterior (marginals, 2-D maps, ranges, fit quality) as NetCDF")
+                   help="write the posterior as NetCDF: marginals, 2-D maps, ranges, fit quality, and a sampler's weighted samples")
     add_cluster_options(p, GRID_TASK_MODELS)
     return p
 
