@@ -11,30 +11,13 @@ from pathlib import Path
 
 import numpy as np
 
-from induct.io.tracks import FRAMES, to_flow_frame
+from induct.io.tracks import FRAMES, read_csv_rows, to_flow_frame
 from induct.planning.candidates import Candidate
 
 __all__ = ["CANDIDATE_COLUMNS", "read_candidates", "write_candidates"]
 
 #: Columns of a candidate file.
 CANDIDATE_COLUMNS = ("candidate", "t_s", "x_km", "y_km", "z_km")
-
-
-def _file_rows(path: Path):
-    header, header_line, rows, numbers = None, 0, [], []
-    from induct.io.files import read_text_file
-
-    for number, text in enumerate(read_text_file(path, "CSV file").splitlines(), start=1):
-        stripped = text.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        cells = next(csv.reader([stripped]))
-        if header is None:
-            header, header_line = [c.strip() for c in cells], number
-            continue
-        rows.append(cells)
-        numbers.append(number)
-    return header, header_line, rows, numbers
 
 
 def read_candidates(path, *, frame: str = "flow") -> list[Candidate]:
@@ -81,7 +64,8 @@ def read_candidates(path, *, frame: str = "flow") -> list[Candidate]:
         raise FileNotFoundError(f"candidate file {source!r} not found")
     if frame not in FRAMES:
         raise ValueError(f"{source}: unknown frame {frame!r}; allowed: {', '.join(FRAMES)}")
-    header, header_line, rows, numbers = _file_rows(path)
+    header, header_line, texts, numbers = read_csv_rows(path)
+    rows = [next(csv.reader([text])) for text in texts]
     if header is None:
         raise ValueError(f"{source}: empty file; the first line must be the header {','.join(CANDIDATE_COLUMNS)}")
     dup = sorted({c for c in header if header.count(c) > 1})

@@ -51,6 +51,7 @@ __all__ = [
     "FRAMES",
     "TRACK_COLUMNS",
     "TIME_COLUMNS",
+    "read_csv_rows",
     "RESIDUAL_COLUMNS",
     "iter_track_chunks",
     "csv_appender",
@@ -155,8 +156,12 @@ def resolve_track_path(name_or_path) -> Path:
     return resolve_bundled(name_or_path, ".csv", "trajectory file")
 
 
-def _read_rows(path: Path):
-    """Header cells, header line number, data lines (text) and their line numbers."""
+def read_csv_rows(path: Path):
+    """Header cells, header line number, data lines (text) and their line numbers of a ``#``-commented CSV file.
+
+    Blank lines and lines starting with ``#`` are skipped; the first other line is the header. The one row
+    splitter of the track, residual and candidate readers.
+    """
     header, header_line, rows, lines = None, 0, [], []
     from induct.io.files import read_text_file
 
@@ -231,7 +236,7 @@ def read_track(path, *, columns=(), frame: str | None = None, epoch_utc: str | N
     source = str(path)
     if frame is not None:
         _check_frame(frame, f"{source}: frame option")
-    header, header_line, rows, lines = _read_rows(path)
+    header, header_line, rows, lines = read_csv_rows(path)
     return _track_from_rows(source, header, header_line, rows, lines, columns, frame, epoch_utc=epoch_utc,
                             constants=constants, epoch_from=epoch_from, positions=positions)
 
