@@ -6,10 +6,10 @@ import warnings
 import numpy as np
 import pytest
 
-import induct
+from planning_reference import direct_response
 from induct import InteriorModel, Layer
 from induct.cli.commands.separate import separation_columns
-from induct.constants import MODEL_LIMITS, SECONDS_PER_HOUR
+from induct.constants import MODEL_LIMITS
 from induct.io.measurements import parse_measurements
 from induct.io.tables import write_diagram_csv
 from induct.planning.diagrams import amplitude_phase_diagram, default_families, measurement_ellipses
@@ -19,12 +19,6 @@ from induct.plot.separation import plot_separation
 from induct.plot.style import covariance_ellipse, figure
 
 
-def _direct(model, changes, period_h):
-    variant = model
-    for key, value in changes.items():
-        layer, fld = key.rsplit(".", 1)
-        variant = variant.with_layer(layer, **{fld: float(value)})
-    return induct.transfer(variant.radii_m(), variant.conductivities(), period_h * SECONDS_PER_HOUR, 1)
 
 
 @pytest.fixture(scope="module")
@@ -52,12 +46,12 @@ def test_diagram_curves_equal_direct_transfer_calls(ilmare, diagram):
     for p, period in enumerate(d.periods_h):
         for c, k in [(0, 0), (1, 7), (3, 24), (2, 13)]:
             ch = {"ice shell.thickness_km": d.first_values[c], "ocean.conductivity_S_per_m": s_dense[k]}
-            ref = _direct(ilmare, ch, period)
+            ref = direct_response(ilmare, ch, period)
             err = abs(d.first_curves[p, c, k] - ref) / abs(ref)
             worst = max(worst, (err, (period, ch, d.first_curves[p, c, k], ref)), key=lambda t: t[0])
         for c, k in [(0, 0), (2, 24), (1, 11)]:
             ch = {"ocean.conductivity_S_per_m": d.second_values[c], "ice shell.thickness_km": f_dense[k]}
-            ref = _direct(ilmare, ch, period)
+            ref = direct_response(ilmare, ch, period)
             err = abs(d.second_curves[p, c, k] - ref) / abs(ref)
             worst = max(worst, (err, (period, ch, d.second_curves[p, c, k], ref)), key=lambda t: t[0])
     assert worst[0] <= 1e-12, f"worst relative error {worst[0]:.2e} at {worst[1]}"

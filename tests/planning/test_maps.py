@@ -8,9 +8,9 @@ import warnings
 import numpy as np
 import pytest
 
-import induct
+from planning_reference import direct_response
 from induct import InteriorModel, Layer
-from induct.constants import MODEL_LIMITS, MU0, SECONDS_PER_HOUR
+from induct.constants import MODEL_LIMITS, MU0
 from induct.io.map_files import write_map_csv, write_map_files, write_map_netcdf
 from induct.planning.maps import AxisSpec, consistency_levels, feasibility_map, parse_axis_spec
 from induct.io.measurements import parse_measurements
@@ -19,13 +19,6 @@ X_SPEC = "ice shell.thickness_km=2:90:37"
 Y_SPEC = "ocean.conductivity_S_per_m=0.05:30:23:log"
 
 
-def _direct(model, changes, period_h):
-    """R_1 of one variant built through the checked API and evaluated by induct.transfer directly."""
-    variant = model
-    for key, value in changes.items():
-        layer, fld = key.rsplit(".", 1)
-        variant = variant.with_layer(layer, **{fld: float(value)})
-    return induct.transfer(variant.radii_m(), variant.conductivities(), period_h * SECONDS_PER_HOUR, 1)
 
 
 @pytest.mark.parametrize(
@@ -47,7 +40,7 @@ def test_map_cells_equal_direct_transfer_calls(ilmare, x_spec, y_spec):
     worst = (0.0, None)
     for j, i in zip(iy, ix):
         changes = {res.x.parameter: res.x_values[i], res.y.parameter: res.y_values[j]}
-        ref = _direct(ilmare, changes, period_h)
+        ref = direct_response(ilmare, changes, period_h)
         err = abs(res.response[j, i] - ref) / abs(ref)
         err_a = abs(res.values[j, i] - abs(ref)) / abs(ref)
         if max(err, err_a) > worst[0]:
@@ -60,7 +53,7 @@ def test_phase_lag_map_equals_direct_phase(ilmare):
     worst = 0.0
     for j, y in enumerate(res.y_values):
         for i, x in enumerate(res.x_values):
-            ref = math.degrees(np.angle(_direct(ilmare, {res.x.parameter: x, res.y.parameter: y}, 84.7)))
+            ref = math.degrees(np.angle(direct_response(ilmare, {res.x.parameter: x, res.y.parameter: y}, 84.7)))
             worst = max(worst, abs(res.values[j, i] - ref))
             assert abs(res.values[j, i] - ref) <= 1e-10, f"x={x}, y={y}: map {res.values[j, i]!r} vs direct {ref!r} deg"
     assert 0.0 <= np.min(res.values) and np.max(res.values) <= 90.0
@@ -155,7 +148,7 @@ def test_chi_square_cells_and_regions(ilmare):
 
 
 def _direct_many(model, changes, periods_h):
-    return np.array([_direct(model, changes, p) for p in periods_h])
+    return np.array([direct_response(model, changes, p) for p in periods_h])
 
 
 def test_backend_and_chunking_give_identical_cells(ilmare):
